@@ -1,0 +1,62 @@
+#!/usr/bin/env bash
+# npm start: install what is missing, start PostgreSQL and the mail sink on loopback, migrate, seed the demo lab,
+# build and serve the app. Ctrl-C stops everything this script started.
+source "$(dirname "$0")/lib.sh"
+
+export PORT="${PORT:-5180}"
+export PGPORT="${PGPORT:-54329}"
+export SMTP_SINK_PORT="${SMTP_SINK_PORT:-2526}"
+export HOST=127.0.0.1
+export ORIGIN="${ORIGIN:-http://127.0.0.1:$PORT}"
+
+port_in_use "$PORT" && die "port $PORT is in use; stop the other program or run 'PORT=5181 npm start'."
+
+started_pg=""
+children=()
+cleanup() {
+  trap - INT TERM EXIT
+  for pid in "${children[@]}"; do kill "$pid" 2>/dev/null || true; done
+  wait 2>/dev/null || true
+  [ -n "$started_pg" ] && pg_stop dev
+  say "stopped."
+}
+trap cleanup INT TERM EXIT
+
+ensure_node_modules
+if ! pg_run "$PGBIN/pg_ctl" -D "$(pg_data_base)/dev" status >/dev/null 2>&1; then started_pg=1; fi
+pg_start dev "$PGPORT" escapement
+ensure_secret
+say "applying database migrations"
+(cd "$ROOT" && npx tsx scripts/migrate.ts) || die "migrations failed (see above)."
+say "seeding the demo lab (kept if already there)"
+(cd "$ROOT" && npx tsx scripts/seed.ts) || die "seeding failed (see above)."
+if needs_build; then build_app; else say "build is up to date"; fi
+
+say "starting the mail sink on 127.0.0.1:$SMTP_SINK_PORT"
+(cd "$ROOT" && exec npx tsx scripts/mail-sink.ts) &
+children+=($!)
+export SMTP_URL="${SMTP_URL:-smtp://127.0.0.1:$SMTP_SINK_PORT}"
+
+say "starting the web server"
+(cd "$ROOT" && exec node build) &
+server=$!
+children+=($server)
+for _ in $(seq 1 60); do
+  if port_in_use "$PORT"; then break; fi
+  kill -0 "$server" 2>/dev/null || die "the web server exited during start-up (see above)."
+  sleep 0.5
+done
+port_in_use "$PORT" || die "the web server did not open port $PORT within 30 s."
+
+cat <<MSG
+
+  Escapement is running at  $ORIGIN
+  Database: $DATABASE_URL   (data in $(pg_data_base)/dev)
+  Caught e-mail: $ORIGIN/mail (lab admins)
+
+  Demo sign-ins (password for all: $(cd "$ROOT" && npx tsx scripts/seed.ts --print-password)):
+$(cd "$ROOT" && npx tsx scripts/seed.ts --print-users | sed 's/^/    /')
+
+  Press Ctrl-C to stop the server, the mail sink and PostgreSQL.
+MSG
+wait "$server"

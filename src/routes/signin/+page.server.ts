@@ -1,0 +1,24 @@
+import { redirect } from '@sveltejs/kit';
+import { signIn } from '$lib/server/auth';
+import type { Actions, PageServerLoad } from './$types';
+
+const MESSAGES: Record<string, string> = {
+	CredentialsSignin: 'That e-mail address and password do not match an account. Check both and try again.',
+	AccessDenied: 'There is no Escapement account for that address. Ask your lab lead for an invitation.',
+	Verification: 'That sign-in link has expired or was already used. Ask for a new one.',
+	EmailSignin: 'The sign-in link could not be sent. Try again in a moment, or sign in with your password.'
+};
+
+/** Only same-site paths are allowed as a destination after sign-in. */
+function safeNext(value: string | null): string {
+	return value && value.startsWith('/') && !value.startsWith('//') ? value : '/labs';
+}
+
+export const load: PageServerLoad = ({ locals, url }) => {
+	const next = safeNext(url.searchParams.get('next') ?? url.searchParams.get('callbackUrl'));
+	if (locals.user) redirect(303, next);
+	const code = url.searchParams.get('error');
+	return { next, message: code ? (MESSAGES[code] ?? 'Sign-in failed. Try again.') : null };
+};
+
+export const actions: Actions = { default: signIn };
