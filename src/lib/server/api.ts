@@ -1,0 +1,56 @@
+/**
+ * The JSON API's one error format, `{ error: { code, message, details } }`, and the wrapper every `+server.ts`
+ * under /api/v1 uses: it turns SvelteKit's error(), zod failures and scheme validation errors into that format.
+ */
+import { isHttpError, json, type RequestEvent } from '@sveltejs/kit';
+import { z, ZodError } from 'zod';
+import { SchemeInputError } from './schemes';
+import { requireLab, requireUser, type Capability, type LabAccess } from './access';
+
+export interface ApiErrorBody {
+	error: { code: string; message: string; details: unknown };
+}
+
+export function apiError(status: number, code: string, message: string, details: unknown = null): Response {
+	return json({ error: { code, message, details } } satisfies ApiErrorBody, { status });
+}
+
+function codeFor(status: number): string {
+	return ({ 400: 'invalid', 401: 'unauthenticated', 403: 'forbidden', 404: 'not_found', 409: 'conflict', 413: 'too_large', 422: 'invalid_scheme' } as Record<number, string>)[status] ?? 'error';
+}
+
+/** Wraps a route handler so that every failure answers in the API's error format. */
+export function apiRoute<E extends RequestEvent>(handler: (event: E) => Promise<Response> | Response) {
+	return async (event: E): Promise<Response> => {
+		try {
+			return await handler(event);
+		} catch (err) {
+			if (isHttpError(err)) return apiError(err.status, err.body.code ?? codeFor(err.status), err.body.message);
+			if (err instanceof ZodError)
+				return apiError(400, 'invalid', 'The request body is not valid; see details for each field.', err.issues.map((i) => ({ path: i.path.join('.'), message: i.message })));
+			if (err instanceof SchemeInputError) return apiError(422, 'invalid_scheme', err.message, err.issues);
+			if (err instanceof Response) throw err;
+			console.error(`[escapement] API ${event.request.method} ${event.url.pathname}:`, err);
+			return apiError(500, 'internal', 'Something went wrong on our side. The error was logged.');
+		}
+	};
+}
+
+/** Parses a JSON body with a zod schema (a ZodError becomes a 400 with details). */
+export async function readJson<T extends z.ZodType>(request: Request, schema: T): Promise<z.infer<T>> {
+	let body: unknown;
+	try {
+		body = await request.json();
+	} catch {
+		throw new ZodError([{ code: 'custom', path: [], message: 'The body must be JSON (Content-Type: application/json).', input: undefined }]);
+	}
+	return schema.parse(body);
+}
+
+/** The signed-in person (session or token) and their access to the lab named in the URL, checked for a capability. */
+export async function labFromEvent(event: RequestEvent, capability: Capability = 'read'): Promise<LabAccess> {
+	const user = requireUser(event.locals);
+	const slug = event.params.lab;
+	if (!slug) throw new Error('api: labFromEvent needs a [lab] route parameter');
+	return requireLab(user, slug, capability);
+}

@@ -1,0 +1,157 @@
+/**
+ * Audits: a revision checked at given conditions, stored with a snapshot of its inputs, the full results, the engine
+ * version, who ran it and when, and a SHA-256 of the canonical inputs and results. Stored audits never change
+ * (a trigger refuses it); only their review status moves, and not at all once signed.
+ */
+import { error } from '@sveltejs/kit';
+import { and, desc, eq } from 'drizzle-orm';
+import { z } from 'zod';
+import { db, schema } from './db';
+import { can, type LabAccess } from './access';
+import { logActivity } from './activity';
+import { auditHash } from './canonical';
+import { getRevision, getScheme, isUuid } from './schemes';
+import { auditScheme, withConditions, ENGINE_VERSION, type Audit, type Scheme, type Verdict } from '../engine';
+
+export const VERDICT_ORDER: readonly Verdict[] = ['violation', 'irreversible', 'unbalanced', 'consistent'];
+
+/** Conditions a modeller may change without editing the scheme. */
+export const conditionsInput = z
+	.object({
+		temperatureK: z.number().gt(200).lt(400).optional(),
+		forcePN: z.number().gt(-200).lt(200).optional(),
+		concentrationsM: z.record(z.string(), z.number().positive().lt(100)).optional()
+	})
+	.strict();
+export type Conditions = z.infer<typeof conditionsInput>;
+
+export function worstVerdict(counts: Record<Verdict, number>): Verdict {
+	return VERDICT_ORDER.find((v) => counts[v] > 0) ?? 'consistent';
+}
+
+/** Runs the engine on a scheme at the given conditions, without storing anything (the live conditions panel). */
+export function previewAudit(scheme: Scheme, conditions: Conditions = {}): { inputs: Scheme; results: Audit } {
+	const inputs = withConditions(scheme, conditions);
+	return { inputs, results: auditScheme(inputs) };
+}
+
+export async function runAudit(access: LabAccess, schemeId: string, opts: { revision?: number; conditions?: Conditions } = {}) {
+	if (!can(access.role, 'model')) error(403, { message: 'Only modellers and lab leads run audits.', code: 'forbidden' });
+	const scheme = await getScheme(access.lab.id, schemeId);
+	const revision = opts.revision ? await getRevision(access.lab.id, schemeId, opts.revision) : scheme.latest;
+	const { inputs, results } = previewAudit(revision.scheme as Scheme, opts.conditions);
+	const counts = results.verdictCounts;
+	const sha256 = auditHash({ inputs, results, engineVersion: ENGINE_VERSION });
+	return db.transaction(async (tx) => {
+		const [row] = await tx
+			.insert(schema.audits)
+			.values({
+				labId: access.lab.id,
+				schemeId,
+				revisionId: revision.id,
+				inputs,
+				results,
+				engineVersion: ENGINE_VERSION,
+				sha256,
+				verdict: worstVerdict(counts),
+				verdictCounts: counts,
+				createdBy: access.user.id
+			})
+			.returning();
+		await logActivity(
+			{
+				labId: access.lab.id,
+				actorId: access.user.id,
+				kind: 'audit-run',
+				summary: `Audited "${scheme.name}" revision ${revision.number}: ${worstVerdict(counts)}`,
+				details: { auditId: row.id, schemeId, revision: revision.number }
+			},
+			tx
+		);
+		return row;
+	});
+}
+
+export async function listAudits(labId: string, schemeId: string) {
+	await getScheme(labId, schemeId);
+	return db
+		.select({
+			id: schema.audits.id,
+			createdAt: schema.audits.createdAt,
+			verdict: schema.audits.verdict,
+			verdictCounts: schema.audits.verdictCounts,
+			status: schema.audits.status,
+			revision: schema.schemeRevisions.number,
+			createdByName: schema.users.name
+		})
+		.from(schema.audits)
+		.innerJoin(schema.schemeRevisions, eq(schema.schemeRevisions.id, schema.audits.revisionId))
+		.innerJoin(schema.users, eq(schema.users.id, schema.audits.createdBy))
+		.where(and(eq(schema.audits.labId, labId), eq(schema.audits.schemeId, schemeId)))
+		.orderBy(desc(schema.audits.createdAt));
+}
+
+/** One audit of this lab with its scheme, revision number, author and signature, or 404. */
+export async function getAudit(labId: string, auditId: string) {
+	if (!isUuid(auditId)) error(404, { message: 'No such audit in this lab.', code: 'not_found' });
+	const [row] = await db
+		.select({
+			audit: schema.audits,
+			schemeName: schema.schemes.name,
+			revision: schema.schemeRevisions.number,
+			sourceFileName: schema.schemeRevisions.sourceFileName,
+			sourceSha256: schema.schemeRevisions.sourceSha256,
+			createdByName: schema.users.name,
+			createdByEmail: schema.users.email
+		})
+		.from(schema.audits)
+		.innerJoin(schema.schemes, eq(schema.schemes.id, schema.audits.schemeId))
+		.innerJoin(schema.schemeRevisions, eq(schema.schemeRevisions.id, schema.audits.revisionId))
+		.innerJoin(schema.users, eq(schema.users.id, schema.audits.createdBy))
+		.where(and(eq(schema.audits.id, auditId), eq(schema.audits.labId, labId)));
+	if (!row) error(404, { message: 'No such audit in this lab.', code: 'not_found' });
+	const [signature] = await db.select().from(schema.signatures).where(eq(schema.signatures.auditId, auditId));
+	const events = await db
+		.select({ kind: schema.reviewEvents.kind, note: schema.reviewEvents.note, createdAt: schema.reviewEvents.createdAt, actorName: schema.users.name })
+		.from(schema.reviewEvents)
+		.innerJoin(schema.users, eq(schema.users.id, schema.reviewEvents.actorId))
+		.where(eq(schema.reviewEvents.auditId, auditId))
+		.orderBy(schema.reviewEvents.createdAt);
+	return {
+		...row.audit,
+		inputs: row.audit.inputs as Scheme,
+		results: row.audit.results as Audit,
+		verdictCounts: row.audit.verdictCounts as Record<Verdict, number>,
+		schemeName: row.schemeName,
+		revision: row.revision,
+		sourceFileName: row.sourceFileName,
+		sourceSha256: row.sourceSha256,
+		createdByName: row.createdByName,
+		createdByEmail: row.createdByEmail,
+		signature: signature ?? null,
+		events
+	};
+}
+export type StoredAudit = Awaited<ReturnType<typeof getAudit>>;
+
+/**
+ * Recomputes the hash from the stored inputs and results and compares it with the stored hash (and, for a signed
+ * audit, with the hash the reviewer signed).
+ */
+export function verifyAudit(audit: StoredAudit): { matches: boolean; recomputed: string; stored: string; signed: string | null } {
+	const recomputed = auditHash({ inputs: audit.inputs, results: audit.results, engineVersion: audit.engineVersion });
+	const signed = audit.signature?.sha256 ?? null;
+	return { matches: recomputed === audit.sha256 && (signed === null || signed === recomputed), recomputed, stored: audit.sha256, signed };
+}
+
+/** Provenance block for exports. */
+export function provenanceOf(audit: StoredAudit) {
+	return {
+		sourceFileName: audit.sourceFileName,
+		sourceSha256: audit.sourceSha256,
+		engineVersion: audit.engineVersion,
+		createdAt: audit.createdAt.toISOString(),
+		createdBy: audit.createdByName ?? audit.createdByEmail,
+		auditSha256: audit.sha256
+	};
+}

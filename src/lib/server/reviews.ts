@@ -1,0 +1,152 @@
+/**
+ * Review and sign-off. A modeller submits an audit with a note; the lab's reviewers are mailed and see it in their
+ * queue. A reviewer who is not the audit's author signs it after entering their password again, or returns it with
+ * comments. The signature records signer, time, comment and the audit's SHA-256; from then on PostgreSQL refuses
+ * any change to the audit, its signature or its history.
+ */
+import { error } from '@sveltejs/kit';
+import { and, desc, eq, sql } from 'drizzle-orm';
+import { db, schema } from './db';
+import { can, type LabAccess } from './access';
+import { logActivity } from './activity';
+import { getAudit, verifyAudit } from './audits';
+import { verifyPassword } from './passwords';
+import { queueMail } from './jobs';
+import { config } from './config';
+
+function auditUrl(access: LabAccess, auditId: string): string {
+	return `${config.origin}/labs/${access.lab.slug}/audits/${auditId}`;
+}
+
+async function reviewersOf(labId: string) {
+	return db
+		.select({ id: schema.users.id, email: schema.users.email, name: schema.users.name })
+		.from(schema.labMembers)
+		.innerJoin(schema.users, eq(schema.users.id, schema.labMembers.userId))
+		.where(and(eq(schema.labMembers.labId, labId), eq(schema.labMembers.role, 'reviewer')));
+}
+
+export async function submitForReview(access: LabAccess, auditId: string, note: string) {
+	if (!can(access.role, 'model')) error(403, { message: 'Only modellers and lab leads submit audits for review.', code: 'forbidden' });
+	const audit = await getAudit(access.lab.id, auditId);
+	if (audit.status === 'submitted') error(409, { message: 'This audit is already waiting for review.', code: 'conflict' });
+	if (audit.status === 'signed') error(409, { message: 'This audit is signed; run a new audit to review changes.', code: 'conflict' });
+	const reviewers = (await reviewersOf(access.lab.id)).filter((r) => r.id !== audit.createdBy);
+	if (reviewers.length === 0) error(409, { message: 'The lab has no reviewer other than the audit’s author. Ask the lab lead to give someone the reviewer role.', code: 'no_reviewer' });
+	await db.transaction(async (tx) => {
+		await tx.update(schema.audits).set({ status: 'submitted' }).where(eq(schema.audits.id, auditId));
+		await tx.insert(schema.reviewEvents).values({ auditId, kind: 'submitted', actorId: access.user.id, note });
+		await logActivity(
+			{ labId: access.lab.id, actorId: access.user.id, kind: 'audit-submitted', summary: `Submitted the audit of "${audit.schemeName}" r${audit.revision} for review`, details: { auditId } },
+			tx
+		);
+	});
+	const counts = audit.verdictCounts;
+	await queueMail({
+		to: reviewers.map((r) => r.email),
+		subject: `Review requested: ${audit.schemeName} (revision ${audit.revision})`,
+		text: [
+			`${access.user.name ?? access.user.email} asks you to review an audit in ${access.lab.name}.`,
+			'',
+			`Scheme: ${audit.schemeName}, revision ${audit.revision}`,
+			`Cycles: ${audit.results.cycleCount}${audit.results.cyclesComplete ? '' : ' (enumeration capped)'} — ${counts.consistent} consistent, ${counts.violation} violation, ${counts.irreversible} irreversible, ${counts.unbalanced} unbalanced`,
+			note ? `Note: ${note}` : '',
+			'',
+			`Open the audit: ${auditUrl(access, auditId)}`
+		].join('\n')
+	});
+	return { notified: reviewers.length };
+}
+
+async function requireReviewable(access: LabAccess, auditId: string) {
+	if (!can(access.role, 'review')) error(403, { message: 'Only reviewers sign or return audits.', code: 'forbidden' });
+	const audit = await getAudit(access.lab.id, auditId);
+	if (audit.createdBy === access.user.id) error(403, { message: 'You ran this audit; another reviewer must check it.', code: 'own_audit' });
+	if (audit.status !== 'submitted') error(409, { message: `This audit is ${audit.status}, not waiting for review.`, code: 'conflict' });
+	return audit;
+}
+
+export async function signAudit(access: LabAccess, auditId: string, input: { password: string; comment: string }) {
+	const audit = await requireReviewable(access, auditId);
+	const [me] = await db.select().from(schema.users).where(eq(schema.users.id, access.user.id));
+	if (!(await verifyPassword(input.password, me?.passwordHash))) error(403, { message: 'That password is not right. Enter your own password to sign.', code: 'bad_password' });
+	const check = verifyAudit(audit);
+	if (!check.matches) error(409, { message: 'The stored audit no longer matches its hash; it cannot be signed. Run the audit again.', code: 'hash_mismatch' });
+	const signerName = me.name ?? me.email;
+	await db.transaction(async (tx) => {
+		await tx.update(schema.audits).set({ status: 'signed' }).where(eq(schema.audits.id, auditId));
+		await tx.insert(schema.signatures).values({ auditId, signerId: me.id, signerName, comment: input.comment, sha256: audit.sha256 });
+		await tx.insert(schema.reviewEvents).values({ auditId, kind: 'signed', actorId: me.id, note: input.comment });
+		await logActivity(
+			{ labId: access.lab.id, actorId: me.id, kind: 'audit-signed', summary: `Signed the audit of "${audit.schemeName}" r${audit.revision}`, details: { auditId, sha256: audit.sha256 } },
+			tx
+		);
+	});
+	await queueMail({
+		to: audit.createdByEmail,
+		subject: `Signed: ${audit.schemeName} (revision ${audit.revision})`,
+		text: `${signerName} signed your audit of ${audit.schemeName}, revision ${audit.revision}.\n${input.comment ? `\nComment: ${input.comment}\n` : ''}\nSHA-256: ${audit.sha256}\n\n${auditUrl(access, auditId)}`
+	});
+}
+
+export async function returnAudit(access: LabAccess, auditId: string, comment: string) {
+	if (!comment.trim()) error(400, { message: 'Say what should change: a returned audit needs a comment.', code: 'comment_required' });
+	const audit = await requireReviewable(access, auditId);
+	await db.transaction(async (tx) => {
+		await tx.update(schema.audits).set({ status: 'returned' }).where(eq(schema.audits.id, auditId));
+		await tx.insert(schema.reviewEvents).values({ auditId, kind: 'returned', actorId: access.user.id, note: comment });
+		await logActivity(
+			{ labId: access.lab.id, actorId: access.user.id, kind: 'audit-returned', summary: `Returned the audit of "${audit.schemeName}" r${audit.revision}`, details: { auditId } },
+			tx
+		);
+	});
+	await queueMail({
+		to: audit.createdByEmail,
+		subject: `Returned with comments: ${audit.schemeName} (revision ${audit.revision})`,
+		text: `${access.user.name ?? access.user.email} returned your audit of ${audit.schemeName}, revision ${audit.revision}.\n\nComments:\n${comment}\n\n${auditUrl(access, auditId)}`
+	});
+}
+
+/** Audits waiting for review in a lab, oldest first, with their summaries. */
+export async function reviewQueue(labId: string) {
+	return db
+		.select({
+			id: schema.audits.id,
+			schemeId: schema.audits.schemeId,
+			schemeName: schema.schemes.name,
+			revision: schema.schemeRevisions.number,
+			verdict: schema.audits.verdict,
+			verdictCounts: schema.audits.verdictCounts,
+			createdBy: schema.audits.createdBy,
+			createdByName: schema.users.name,
+			createdAt: schema.audits.createdAt,
+			submittedAt: sql<Date>`(select max(e.created_at) from review_events e where e.audit_id = ${schema.audits.id} and e.kind = 'submitted')`,
+			note: sql<string>`(select e.note from review_events e where e.audit_id = ${schema.audits.id} and e.kind = 'submitted' order by e.created_at desc limit 1)`
+		})
+		.from(schema.audits)
+		.innerJoin(schema.schemes, eq(schema.schemes.id, schema.audits.schemeId))
+		.innerJoin(schema.schemeRevisions, eq(schema.schemeRevisions.id, schema.audits.revisionId))
+		.innerJoin(schema.users, eq(schema.users.id, schema.audits.createdBy))
+		.where(and(eq(schema.audits.labId, labId), eq(schema.audits.status, 'submitted')))
+		.orderBy(schema.audits.createdAt);
+}
+
+/** Recently signed audits of a lab. */
+export async function recentlySigned(labId: string, limit = 20) {
+	return db
+		.select({
+			id: schema.audits.id,
+			schemeName: schema.schemes.name,
+			revision: schema.schemeRevisions.number,
+			signerName: schema.signatures.signerName,
+			signedAt: schema.signatures.signedAt,
+			sha256: schema.signatures.sha256
+		})
+		.from(schema.signatures)
+		.innerJoin(schema.audits, eq(schema.audits.id, schema.signatures.auditId))
+		.innerJoin(schema.schemes, eq(schema.schemes.id, schema.audits.schemeId))
+		.innerJoin(schema.schemeRevisions, eq(schema.schemeRevisions.id, schema.audits.revisionId))
+		.where(eq(schema.audits.labId, labId))
+		.orderBy(desc(schema.signatures.signedAt))
+		.limit(limit);
+}
