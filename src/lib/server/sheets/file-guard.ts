@@ -116,9 +116,8 @@ export function checkXlsxContainer(bytes: Uint8Array, fileName: string): ZipEntr
 		const start = c.local + 30 + buf.readUInt16LE(c.local + 26) + buf.readUInt16LE(c.local + 28);
 		if (start + c.compressed > buf.length) damaged();
 		const packed = buf.subarray(start, start + c.compressed);
-		let data: Buffer;
-		if (c.method === 0) data = packed;
-		else {
+		let data: Buffer = packed;
+		if (c.method !== 0) {
 			try {
 				data = inflateRawSync(packed, { maxOutputLength: Math.max(c.size, 1) });
 			} catch (e) {

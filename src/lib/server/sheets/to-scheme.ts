@@ -160,12 +160,14 @@ function readConditions(ctx: Ctx, book: SourceBook, json: SchemeJson): void {
 			const lower = name.toLowerCase().replace(/\s+/g, ' ');
 			const species = /^\[(.+)\]$/.exec(name)?.[1]?.trim() ?? /^(?:concentration|conc\.?|c)\s*(?:of\s+)?\(?\s*([^)\s]+)\s*\)?$/i.exec(name)?.[1];
 			const canonical = species ? `[${species}]` : lower;
+			const where = at(table, row, 'value');
+			const valueCell = row.cells.value?.value;
+			if (!valueCell || valueCell.kind === 'empty' || (valueCell.kind === 'text' && valueCell.text.trim() === '')) continue; // left empty: the default holds
 			if (seen.has(canonical)) {
 				fail(ctx, at(table, row, 'name'), `"${name}" is given twice (also in row ${seen.get(canonical)}). Keep one of the two rows.`);
 				continue;
 			}
 			seen.set(canonical, row.row);
-			const where = at(table, row, 'value');
 			if (lower === 'scheme name' || lower === 'name' || lower === 'scheme') {
 				const v = txt(ctx, table, row, 'value', 'Scheme name');
 				if (v) {
@@ -176,7 +178,7 @@ function readConditions(ctx: Ctx, book: SourceBook, json: SchemeJson): void {
 			}
 			const value = num(ctx, table, row, 'value', name);
 			if (value === undefined) continue;
-			if (value === null) continue; // a row left empty in the template: the default holds
+			if (value === null) continue;
 			const unitAt = at(table, row, 'unit');
 			if (lower === 'temperature' || lower === 't') {
 				const k = toKelvin(value, unit);
