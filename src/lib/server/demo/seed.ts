@@ -1,12 +1,15 @@
 /**
  * The demo: Kestrel Motility Lab (invented), one person per role, and Brightwater Rotary Group (invented), a second
- * lab with its own lead. Schemes, audits and reviews of the demo are added by seedDemoSchemes when the engine is present.
+ * lab with its own lead; three invented schemes with audits, one signed and one waiting for review.
  */
 import { eq } from 'drizzle-orm';
 import type { Db } from '../db';
 import { schema } from '../db';
 import { hashPassword } from '../passwords';
 import type { LabRole } from '../db/schema';
+import { createScheme } from '../schemes';
+import { runAudit } from '../audits';
+import { compositeWithViolation, stepperWithFutileBranch, threeSiteRotary } from './schemes';
 
 export const DEMO_PASSWORD = 'kestrel-demo-2026';
 
@@ -20,6 +23,34 @@ export const DEMO_USERS: { email: string; name: string; role: LabRole; roleLabel
 	{ email: 'jun.adeyemi@kestrel.example', name: 'Jun Adeyemi', role: 'reader', roleLabel: 'reader', lab: DEMO_LAB.slug },
 	{ email: 'elsa.varga@brightwater.example', name: 'Elsa Varga', role: 'lead', roleLabel: 'other lab', lab: OTHER_LAB.slug }
 ];
+
+/** Schemes, audits and reviews of the demo lab: one audit signed, one waiting for review, one draft with violations. */
+async function seedSchemes(db: Db, labId: string): Promise<void> {
+	const person = async (email: string) => (await db.select().from(schema.users).where(eq(schema.users.email, email)))[0];
+	const modeller = await person(DEMO_USERS[1].email);
+	const reviewer = await person(DEMO_USERS[2].email);
+	const [lab] = await db.select().from(schema.labs).where(eq(schema.labs.id, labId));
+	const access = { lab, role: 'modeller' as const, user: { id: modeller.id, email: modeller.email, name: modeller.name } };
+
+	const stepper = await createScheme(access, { scheme: stepperWithFutileBranch(), description: 'Hand-over-hand stepper, 8 nm per ATP, with a futile hydrolysis branch. Rates fitted in the lab (invented).' });
+	const rotary = await createScheme(access, { scheme: threeSiteRotary(), description: 'Three catalytic sites, 80° + 40° substeps per ATP; rotation as arc length at a 1 nm lever.' });
+	const composite = await createScheme(access, { scheme: compositeWithViolation(), description: 'K-7 rates collected from several papers; checking before we simulate.' });
+
+	const signed = await runAudit(access, stepper.scheme.id);
+	const waiting = await runAudit(access, rotary.scheme.id);
+	await runAudit(access, composite.scheme.id);
+
+	// The review history is written directly: the demo needs no mail to be sent.
+	await db.transaction(async (tx) => {
+		await tx.update(schema.audits).set({ status: 'submitted' }).where(eq(schema.audits.id, signed.id));
+		await tx.insert(schema.reviewEvents).values({ auditId: signed.id, kind: 'submitted', actorId: modeller.id, note: 'Fitted rates from the March trap data; please check before the manuscript goes out.' });
+		await tx.update(schema.audits).set({ status: 'signed' }).where(eq(schema.audits.id, signed.id));
+		await tx.insert(schema.signatures).values({ auditId: signed.id, signerId: reviewer.id, signerName: reviewer.name ?? reviewer.email, comment: 'All cycles balance within uncertainty; stall force is plausible.', sha256: signed.sha256 });
+		await tx.insert(schema.reviewEvents).values({ auditId: signed.id, kind: 'signed', actorId: reviewer.id, note: 'All cycles balance within uncertainty; stall force is plausible.' });
+		await tx.update(schema.audits).set({ status: 'submitted' }).where(eq(schema.audits.id, waiting.id));
+		await tx.insert(schema.reviewEvents).values({ auditId: waiting.id, kind: 'submitted', actorId: modeller.id, note: 'Torque dependence split 0.6/0.4 between the substeps; is that defensible?' });
+	});
+}
 
 export async function seedDemo(db: Db): Promise<{ created: boolean }> {
 	const [existing] = await db.select().from(schema.labs).where(eq(schema.labs.slug, DEMO_LAB.slug));
@@ -37,5 +68,7 @@ export async function seedDemo(db: Db): Promise<{ created: boolean }> {
 			await tx.insert(schema.labMembers).values({ labId: labId(u.lab), userId: user.id, role: u.role });
 		}
 	});
+	const [lab] = await db.select().from(schema.labs).where(eq(schema.labs.slug, DEMO_LAB.slug));
+	await seedSchemes(db, lab.id);
 	return { created: true };
 }
