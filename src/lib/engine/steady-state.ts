@@ -21,7 +21,14 @@ export interface SteadyState {
 
 export function steadyState(table: RateTable): SteadyState {
 	const K = rateMatrix(table);
-	const factor = gthFactor(K, table.n);
+	let factor: GthFactor;
+	try {
+		factor = gthFactor(K, table.n);
+	} catch (err) {
+		// GTH knows state numbers only; name the states
+		if (err instanceof Error) err.message = err.message.replace(/#(\d+)/g, (_, i) => `"${table.stateIds[Number(i)]}"`);
+		throw err;
+	}
 	const p = stationary(factor);
 	return { K, factor, p, logSigma: logTreeSum(factor, p) };
 }
