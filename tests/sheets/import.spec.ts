@@ -177,6 +177,15 @@ describe('the broken-file corpus: each problem at its sheet, row and column', ()
 		expect(r.scheme).toEqual(fromJson(VESSEL3));
 	});
 
+	it('a decimal comma in a comma-separated file is an error, not a silently truncated rate', async () => {
+		const csv = ['# temperature: 25 °C', 'from state,to state,rate (1/s)', 'A,B,5', 'B,A,0,5'].join('\n');
+		const r = await importRateTable(text(csv), 'split.csv');
+		expect(r.ok).toBe(false);
+		if (r.ok) return;
+		expect(r.errors).toEqual([expect.objectContaining({ sheet: 'split.csv', row: 4, column: 'D' })]);
+		expect(r.errors[0].message).toMatch(/decimal comma/);
+	});
+
 	it('a CSV problem is reported at its line and lettered column, a bad # line at its line', async () => {
 		const csv = ['# temperature: 25 °C', '# reaction: ATP hydrolysis | ATP → ADP + Pi', 'step,from state,to state,k forward (1/s),k backward (1/s)', 's1,A,B,5,2', 's2,B,Z,x1,1', 's3,B,A,1,1'].join('\n');
 		const r = await importRateTable(text(csv), 'broken.csv');

@@ -130,7 +130,7 @@ export function readCsv(bytes: Uint8Array, fileName: string, issues: IssueList):
 	if (grid.length === 0) refuse(fileName, 'The CSV has no table. Put a header row (from state, to state, k forward …, k backward …) and one row per step.');
 
 	const specs = stepSpecsFor(grid);
-	const steps = buildTable(fileName, grid, specs, issues);
+	const steps = buildTable(fileName, grid, specs, issues, true);
 	if (!steps) {
 		throw new FileRefused({ sheet: fileName, row: grid[0].row, column: null, message: 'No header row with "from state", "to state" and rate columns was found. The first row after the # lines must name the columns (see the Read me sheet of the template).' });
 	}

@@ -44,7 +44,11 @@ export function findHeaderRow(grid: GridRow[], specs: ColumnSpec[]): number {
 	return bestScore >= Math.min(2, specs.filter((s) => s.required).length || 1) ? best : -1;
 }
 
-export function buildTable(sheet: string, grid: GridRow[], specs: ColumnSpec[], issues: IssueList): SourceTable | null {
+/**
+ * `csv`: a field under no header is an error (in a comma-separated file it is most often a decimal
+ * comma that split a number in two); in a workbook it is a warning.
+ */
+export function buildTable(sheet: string, grid: GridRow[], specs: ColumnSpec[], issues: IssueList, csv = false): SourceTable | null {
 	const h = findHeaderRow(grid, specs);
 	if (h < 0) return null;
 	const header = grid[h];
@@ -73,6 +77,12 @@ export function buildTable(sheet: string, grid: GridRow[], specs: ColumnSpec[], 
 		let any = false;
 		r.cells.forEach((cell, index) => {
 			const col = byIndex.get(index);
+			const filled = cell.value.kind !== 'empty' && !(cell.value.kind === 'text' && cell.value.text.trim() === '');
+			if (!col && filled && cellText(header.cells[index]) === '') {
+				const where = { sheet, row: r.row, column: cell.column };
+				if (csv) issues.error(where, `This row has a field under no column header ("${cellText(cell)}"). A decimal comma in a comma-separated file splits a number in two: quote such numbers, separate fields with semicolons, or use decimal points.`);
+				else issues.warn(where, `The cell "${cellText(cell)}" is under no column header and was ignored. Give the column a header, or clear the cell.`);
+			}
 			if (!col || col.key === 'note') return;
 			cells[col.key] = cell;
 			const v = cell.value;
