@@ -3,10 +3,13 @@
  * escapement.audit/1 JSON or a readable summary; problems go to stderr with exit code 1 (2 for usage).
  */
 import { auditScheme, EngineError, type Audit } from '../lib/engine/index';
+import { writeFile } from 'node:fs/promises';
+import { writeTemplate } from '../lib/server/sheets/template';
 import { loadScheme, SchemeLoadError } from './load-scheme';
 
 const USAGE = `usage: escapement audit FILE [--json] [--max-cycles N] [--tolerance LOG10]
-  FILE         a scheme in the escapement.scheme/1 JSON format
+       escapement template FILE.xlsx   (writes the rate-table template)
+  FILE         a scheme: escapement.scheme/1 JSON, or a rate table (.xlsx, .csv)
   --json       print the escapement.audit/1 JSON instead of a summary
   --max-cycles cap on enumerated cycles (default 20000; 0 = judge on a cycle basis only)
   --tolerance  allowed |deviation| of log10(Π+/Π−) (default 0.01)`;
@@ -52,6 +55,15 @@ export function summary(audit: Audit, name: string): string {
 
 export async function main(argv: string[]): Promise<number> {
 	const [command, ...rest] = argv;
+	if (command === 'template') {
+		if (rest.length !== 1 || !rest[0].toLowerCase().endsWith('.xlsx')) {
+			process.stderr.write(`template needs one FILE ending in .xlsx\n${USAGE}\n`);
+			return 2;
+		}
+		await writeFile(rest[0], await writeTemplate());
+		process.stderr.write(`wrote ${rest[0]}\n`);
+		return 0;
+	}
 	if (command !== 'audit') {
 		process.stderr.write(`${command ? `unknown command "${command}"\n` : ''}${USAGE}\n`);
 		return 2;

@@ -3,8 +3,9 @@
  * types (.xlsx, .csv from src/lib/server/sheets/) register through `registerSchemeReader`.
  */
 import { readFile } from 'node:fs/promises';
-import { extname } from 'node:path';
+import { basename, extname } from 'node:path';
 import { parseScheme, type Scheme, type SchemeError } from '../lib/engine/index';
+import { importRateTable, type SheetIssue } from '../lib/server/sheets/index';
 
 /** Turns file bytes into the raw scheme object that parseScheme validates. */
 export type SchemeReader = (bytes: Buffer, path: string) => unknown | Promise<unknown>;
@@ -21,6 +22,23 @@ const readers = new Map<string, SchemeReader>([
 		}
 	]
 ]);
+
+/** "Steps!D4", "Steps row 4" or the sheet alone: where a spreadsheet problem is. */
+export function sheetPlace(issue: SheetIssue): string {
+	if (issue.column && issue.row !== null) return `${issue.sheet}!${issue.column}${issue.row}`;
+	if (issue.row !== null) return `${issue.sheet} row ${issue.row}`;
+	return issue.sheet;
+}
+
+/** Rate tables (.xlsx, .csv): warnings go to stderr, errors carry sheet, row and column. */
+const rateTableReader: SchemeReader = async (bytes, path) => {
+	const result = await importRateTable(new Uint8Array(bytes), basename(path));
+	for (const w of result.warnings) process.stderr.write(`warning: ${sheetPlace(w)}: ${w.message}\n`);
+	if (!result.ok) throw new SchemeLoadError(path, result.errors.map((e) => ({ path: sheetPlace(e), message: e.message })));
+	return result.scheme;
+};
+readers.set('.xlsx', rateTableReader);
+readers.set('.csv', rateTableReader);
 
 export function registerSchemeReader(extension: string, reader: SchemeReader): void {
 	readers.set(extension.toLowerCase(), reader);
