@@ -2,7 +2,7 @@
  * The JSON API's one error format, `{ error: { code, message, details } }`, and the wrapper every `+server.ts`
  * under /api/v1 uses: it turns SvelteKit's error(), zod failures and scheme validation errors into that format.
  */
-import { isHttpError, json, type RequestEvent } from '@sveltejs/kit';
+import { error, isHttpError, json, type RequestEvent } from '@sveltejs/kit';
 import { z, ZodError } from 'zod';
 import { SchemeInputError } from './schemes';
 import { requireLab, requireUser, type Capability, type LabAccess } from './access';
@@ -53,4 +53,23 @@ export async function labFromEvent(event: RequestEvent, capability: Capability =
 	const slug = event.params.lab;
 	if (!slug) throw new Error('api: labFromEvent needs a [lab] route parameter');
 	return requireLab(user, slug, capability);
+}
+
+/** A file download: the bytes with their content type and a Content-Disposition that survives non-ASCII names. */
+export function fileResponse(bytes: Uint8Array | ArrayBuffer, contentType: string, fileName: string): Response {
+	const ascii = fileName.replace(/[^\x20-\x7e]/g, '_').replace(/["\\]/g, '_');
+	return new Response(bytes instanceof Uint8Array ? new Uint8Array(bytes) : new Uint8Array(bytes), {
+		headers: {
+			'content-type': contentType,
+			'content-disposition': `attachment; filename="${ascii}"; filename*=UTF-8''${encodeURIComponent(fileName)}`,
+			'cache-control': 'private, no-store'
+		}
+	});
+}
+
+/** A revision number from the URL; anything but a positive integer answers 404 like a missing revision. */
+export function revisionParam(value: string | undefined): number {
+	const n = Number(value);
+	if (!value || !/^\d+$/.test(value) || !Number.isSafeInteger(n) || n < 1) error(404, { message: `Revision "${value ?? ''}" does not exist; revisions are numbered 1, 2, 3, …`, code: 'not_found' });
+	return n;
 }
