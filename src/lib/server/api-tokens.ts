@@ -1,7 +1,8 @@
 /** Personal API tokens: shown once on creation, stored as SHA-256 only, revocable. */
 import { createHash, randomBytes } from 'node:crypto';
-import { and, eq, isNull } from 'drizzle-orm';
+import { and, desc, eq, isNull } from 'drizzle-orm';
 import { db, schema } from './db';
+import { logActivityForUser } from './activity';
 
 const PREFIX = 'esc_';
 
@@ -15,7 +16,37 @@ export async function createApiToken(userId: string, name: string): Promise<{ id
 		.insert(schema.apiTokens)
 		.values({ userId, name, tokenHash: hashToken(token), prefix: token.slice(0, PREFIX.length + 6) })
 		.returning({ id: schema.apiTokens.id });
+	await logActivityForUser(userId, 'token-created', `Created the API token "${name}" (${token.slice(0, PREFIX.length + 6)}…)`);
 	return { id: row.id, token };
+}
+
+/** A person's tokens, newest first; never the token itself (only its first characters). */
+export async function listApiTokens(userId: string) {
+	return db
+		.select({
+			id: schema.apiTokens.id,
+			name: schema.apiTokens.name,
+			prefix: schema.apiTokens.prefix,
+			createdAt: schema.apiTokens.createdAt,
+			lastUsedAt: schema.apiTokens.lastUsedAt,
+			revokedAt: schema.apiTokens.revokedAt
+		})
+		.from(schema.apiTokens)
+		.where(eq(schema.apiTokens.userId, userId))
+		.orderBy(desc(schema.apiTokens.createdAt));
+}
+
+/** Revokes one of the person's own tokens; false when there is no such live token of theirs. */
+export async function revokeApiToken(userId: string, tokenId: string): Promise<boolean> {
+	if (!/^[0-9a-f-]{36}$/i.test(tokenId)) return false;
+	const [row] = await db
+		.update(schema.apiTokens)
+		.set({ revokedAt: new Date() })
+		.where(and(eq(schema.apiTokens.id, tokenId), eq(schema.apiTokens.userId, userId), isNull(schema.apiTokens.revokedAt)))
+		.returning({ name: schema.apiTokens.name, prefix: schema.apiTokens.prefix });
+	if (!row) return false;
+	await logActivityForUser(userId, 'token-revoked', `Revoked the API token "${row.name}" (${row.prefix}…)`);
+	return true;
 }
 
 export async function userFromApiToken(token: string): Promise<{ id: string; email: string; name: string | null } | null> {
