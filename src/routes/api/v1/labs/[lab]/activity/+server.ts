@@ -1,8 +1,7 @@
 import { json } from '@sveltejs/kit';
-import { count, desc, eq } from 'drizzle-orm';
 import { z } from 'zod';
 import { apiRoute, labFromEvent } from '$lib/server/api';
-import { db, schema } from '$lib/server/db';
+import { activityForLab } from '$lib/server/mailbox';
 import type { RequestHandler } from './$types';
 
 const activityQuery = z.object({
@@ -10,29 +9,10 @@ const activityQuery = z.object({
 	pageSize: z.coerce.number().int().min(1).max(200).default(50)
 });
 
-/** The lab's append-only activity log, newest first (lab lead only). */
+/** The lab's append-only activity log, newest first (lab lead only). `hasMore` says whether a next page exists. */
 export const GET: RequestHandler = apiRoute(async (event) => {
 	const access = await labFromEvent(event, 'manage');
-	const { page, pageSize } = activityQuery.parse(Object.fromEntries(event.url.searchParams));
-	const where = eq(schema.activityLog.labId, access.lab.id);
-	const [entries, [{ total }]] = await Promise.all([
-		db
-			.select({
-				id: schema.activityLog.id,
-				kind: schema.activityLog.kind,
-				summary: schema.activityLog.summary,
-				details: schema.activityLog.details,
-				createdAt: schema.activityLog.createdAt,
-				actorName: schema.users.name,
-				actorEmail: schema.users.email
-			})
-			.from(schema.activityLog)
-			.leftJoin(schema.users, eq(schema.users.id, schema.activityLog.actorId))
-			.where(where)
-			.orderBy(desc(schema.activityLog.createdAt), desc(schema.activityLog.id))
-			.limit(pageSize)
-			.offset((page - 1) * pageSize),
-		db.select({ total: count() }).from(schema.activityLog).where(where)
-	]);
-	return json({ entries, total, page, pageSize, pages: Math.max(1, Math.ceil(total / pageSize)) });
+	const query = activityQuery.parse(Object.fromEntries(event.url.searchParams));
+	const { rows, page, hasMore } = await activityForLab(access.lab.id, query);
+	return json({ entries: rows, page, pageSize: query.pageSize, hasMore });
 });
