@@ -1,0 +1,47 @@
+import { spawnSync } from 'node:child_process';
+import { mkdtempSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { PACER_STEPPER_MISFIT } from '../lib/engine/examples';
+
+const dir = mkdtempSync(join(tmpdir(), 'escapement-cli-'));
+const run = (...args: string[]) =>
+	spawnSync(process.execPath, ['--import', 'tsx', 'src/cli/index.ts', ...args], { encoding: 'utf8', cwd: process.cwd(), timeout: 60_000 });
+
+describe('escapement audit (CLI)', () => {
+	const good = join(dir, 'pacer.json');
+	writeFileSync(good, JSON.stringify(PACER_STEPPER_MISFIT));
+
+	it('prints the audit JSON with --json', () => {
+		const r = run('audit', good, '--json');
+		expect(r.status).toBe(0);
+		const audit = JSON.parse(r.stdout);
+		expect(audit.format).toBe('escapement.audit/1');
+		expect(audit.cycles[0].verdict).toBe('violation');
+		expect(audit.cycles[0].deviationLog10).toBeCloseTo(-1, 10);
+	});
+
+	it('prints a readable summary without --json', () => {
+		const r = run('audit', good);
+		expect(r.status).toBe(0);
+		expect(r.stdout).toMatch(/Verdicts: 0 consistent, 1 violation/);
+		expect(r.stdout).toMatch(/Worst cycles/);
+		expect(r.stdout).toMatch(/velocity\s+[\d.]+ nm\/s/);
+		expect(r.stdout).toMatch(/Proposed correction/);
+	});
+
+	it('reports scheme errors with JSON paths on stderr and exits non-zero', () => {
+		const bad = join(dir, 'bad.json');
+		writeFileSync(bad, JSON.stringify({ states: [{ id: 'A' }], steps: [{ id: 'x', from: 'A', to: 'B', kForward: -1, kBackward: 1 }] }));
+		const r = run('audit', bad, '--json');
+		expect(r.status).toBe(1);
+		expect(r.stdout).toBe('');
+		expect(r.stderr).toMatch(/steps\[0\]\.kForward/);
+		expect(r.stderr).toMatch(/steps\[0\]\.to: unknown state "B"/);
+		const missing = run('audit', join(dir, 'nope.json'));
+		expect(missing.status).toBe(1);
+		expect(missing.stderr).toMatch(/ENOENT/);
+		expect(run('frobnicate').status).toBe(2);
+	});
+});
