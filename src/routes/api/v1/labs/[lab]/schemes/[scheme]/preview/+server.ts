@@ -1,6 +1,7 @@
 import { json } from '@sveltejs/kit';
 import { z } from 'zod';
-import { apiRoute, labFromEvent, readJson } from '$lib/server/api';
+import { apiError, apiRoute, labFromEvent, readJson } from '$lib/server/api';
+import { EngineError } from '$lib/engine';
 import { conditionsInput, previewAudit } from '$lib/server/audits';
 import { getRevision, getScheme } from '$lib/server/schemes';
 import type { RequestHandler } from './$types';
@@ -22,6 +23,11 @@ export const POST: RequestHandler = apiRoute(async (event) => {
 	const revision = body.revision
 		? await getRevision(access.lab.id, event.params.scheme, body.revision)
 		: (await getScheme(access.lab.id, event.params.scheme)).latest;
-	const { results } = previewAudit(revision.scheme, body.conditions);
-	return json(results);
+	try {
+		return json(previewAudit(revision.scheme, body.conditions).results);
+	} catch (err) {
+		// The engine refuses some conditions (e.g. a steady state it cannot reach); say so instead of a 500.
+		if (err instanceof EngineError) return apiError(422, 'engine', err.message);
+		throw err;
+	}
 });
