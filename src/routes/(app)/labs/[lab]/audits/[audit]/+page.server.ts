@@ -1,0 +1,91 @@
+import { fail, isHttpError } from '@sveltejs/kit';
+import { z } from 'zod';
+import { can, requireLab, requireUser, requireUserPage } from '$lib/server/access';
+import { getAudit, verifyAudit } from '$lib/server/audits';
+import { returnAudit, signAudit, submitForReview } from '$lib/server/reviews';
+import { TREE_MAX_STATES, speciesOf, stallForceOrNull } from '$lib/server/audit-curves';
+import type { Actions, PageServerLoad } from './$types';
+
+export const load: PageServerLoad = async ({ locals, params, url }) => {
+	const user = requireUserPage(locals, url);
+	const access = await requireLab(user, params.lab, 'read');
+	const audit = await getAudit(access.lab.id, params.audit);
+	const isAuthor = audit.createdBy === user.id;
+	const open = audit.status === 'draft' || audit.status === 'returned';
+	return {
+		audit: {
+			id: audit.id,
+			schemeId: audit.schemeId,
+			schemeName: audit.schemeName,
+			revision: audit.revision,
+			status: audit.status,
+			verdict: audit.verdict,
+			verdictCounts: audit.verdictCounts,
+			engineVersion: audit.engineVersion,
+			sha256: audit.sha256,
+			createdAt: audit.createdAt,
+			createdByName: audit.createdByName ?? audit.createdByEmail,
+			sourceFileName: audit.sourceFileName,
+			signature: audit.signature
+				? { signerName: audit.signature.signerName, signedAt: audit.signature.signedAt, comment: audit.signature.comment, sha256: audit.signature.sha256 }
+				: null,
+			events: audit.events,
+			inputs: audit.inputs,
+			results: audit.results
+		},
+		stallForcePN: stallForceOrNull(audit.inputs),
+		species: speciesOf(audit.inputs),
+		treeMaxStates: TREE_MAX_STATES,
+		review: {
+			isAuthor,
+			maySubmit: can(access.role, 'model') && open,
+			maySign: can(access.role, 'review') && !isAuthor && audit.status === 'submitted'
+		}
+	};
+};
+
+/** Runs a review step and turns the service's refusal (403, 409…) into a form failure shown beside the form. */
+async function attempt(action: string, run: () => Promise<unknown>) {
+	try {
+		await run();
+		return { action, done: true as const };
+	} catch (err) {
+		if (isHttpError(err)) return fail(err.status, { action, message: err.body.message });
+		throw err;
+	}
+}
+
+const noteInput = z.string().trim().max(4000, { error: 'Keep the note under 4000 characters.' });
+
+export const actions: Actions = {
+	submit: async ({ locals, params, request }) => {
+		const user = requireUser(locals);
+		const form = await request.formData();
+		const note = noteInput.safeParse(String(form.get('note') ?? ''));
+		if (!note.success) return fail(400, { action: 'submit', message: note.error.issues[0].message });
+		return attempt('submit', async () => submitForReview(await requireLab(user, params.lab, 'model'), params.audit, note.data));
+	},
+	sign: async ({ locals, params, request }) => {
+		const user = requireUser(locals);
+		const form = await request.formData();
+		const password = String(form.get('password') ?? '');
+		const comment = noteInput.safeParse(String(form.get('comment') ?? ''));
+		if (!password) return fail(400, { action: 'sign', message: 'Enter your password again to sign.' });
+		if (!comment.success) return fail(400, { action: 'sign', message: comment.error.issues[0].message });
+		return attempt('sign', async () => signAudit(await requireLab(user, params.lab, 'review'), params.audit, { password, comment: comment.data }));
+	},
+	return: async ({ locals, params, request }) => {
+		const user = requireUser(locals);
+		const form = await request.formData();
+		const comment = noteInput.safeParse(String(form.get('comment') ?? ''));
+		if (!comment.success) return fail(400, { action: 'return', message: comment.error.issues[0].message });
+		if (!comment.data) return fail(400, { action: 'return', message: 'Say what should change: a returned audit needs a comment.' });
+		return attempt('return', async () => returnAudit(await requireLab(user, params.lab, 'review'), params.audit, comment.data));
+	},
+	verify: async ({ locals, params }) => {
+		const user = requireUser(locals);
+		const access = await requireLab(user, params.lab, 'read');
+		const audit = await getAudit(access.lab.id, params.audit);
+		return { action: 'verify', verification: { ...verifyAudit(audit), checkedAt: new Date().toISOString() } };
+	}
+};

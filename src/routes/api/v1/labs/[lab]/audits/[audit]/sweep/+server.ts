@@ -1,0 +1,62 @@
+import { json } from '@sveltejs/kit';
+import { z } from 'zod';
+import { apiError, apiRoute, labFromEvent } from '$lib/server/api';
+import { getAudit } from '$lib/server/audits';
+import { SWEEP_MAX_POINTS, speciesOf, stallForceOrNull, velocitySweep } from '$lib/server/audit-curves';
+import type { RequestHandler } from './$types';
+
+const number = (what: string) =>
+	z.coerce.number({ error: `${what} must be a number` }).refine(Number.isFinite, { error: `${what} must be a finite number` });
+
+const sweepQuery = z
+	.object({
+		variable: z.string({ error: 'variable is required: "force" or the name of a species in the scheme, e.g. "ATP"' }).min(1),
+		from: number('from'),
+		to: number('to'),
+		points: z.coerce
+			.number({ error: 'points must be a whole number' })
+			.int({ error: 'points must be a whole number' })
+			.min(2, { error: 'points must be at least 2' })
+			.max(SWEEP_MAX_POINTS, { error: `points may be at most ${SWEEP_MAX_POINTS}` })
+			.default(41)
+	})
+	.refine((q) => q.from < q.to, { error: 'from must be smaller than to', path: ['to'] });
+
+/**
+ * Velocity of the audited scheme against the load (variable=force, pN, even spacing) or against one species'
+ * concentration (variable=ATP etc., M, log spacing), every other condition as stored; with the stall force at the
+ * stored conditions (null when the velocity does not change sign within ±1000 pN).
+ */
+export const GET: RequestHandler = apiRoute(async (event) => {
+	const access = await labFromEvent(event, 'read');
+	const query = sweepQuery.parse(Object.fromEntries(event.url.searchParams));
+	const audit = await getAudit(access.lab.id, event.params.audit);
+	const scheme = audit.inputs;
+	const isForce = query.variable === 'force';
+	if (!isForce) {
+		const species = speciesOf(scheme);
+		if (!species.includes(query.variable))
+			return apiError(
+				400,
+				'invalid',
+				`"${query.variable}" is not a species of this scheme; use variable=force or one of: ${species.join(', ') || '(the scheme has no species)'}.`,
+				[{ path: 'variable', message: `unknown species "${query.variable}"` }]
+			);
+		if (query.from <= 0 || query.to >= 100)
+			return apiError(400, 'invalid', 'Concentrations are swept on a log scale: give from > 0 and to < 100 M (e.g. from=1e-7&to=1e-2).', [
+				{ path: query.from <= 0 ? 'from' : 'to', message: 'out of range for a concentration in M' }
+			]);
+	} else if (query.from < -1000 || query.to > 1000) {
+		return apiError(400, 'invalid', 'Loads are swept between −1000 and 1000 pN; narrow from and to.', [
+			{ path: query.from < -1000 ? 'from' : 'to', message: 'out of range for a load in pN' }
+		]);
+	}
+	return json({
+		variable: query.variable,
+		unit: isForce ? 'pN' : 'M',
+		scale: isForce ? 'linear' : 'log',
+		points: velocitySweep(scheme, query.variable, query.from, query.to, query.points),
+		stallForcePN: stallForceOrNull(scheme),
+		conditions: { temperatureK: scheme.temperatureK, forcePN: scheme.forcePN, concentrationsM: scheme.concentrationsM }
+	});
+});

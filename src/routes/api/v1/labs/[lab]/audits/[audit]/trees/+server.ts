@@ -1,0 +1,29 @@
+import { json } from '@sveltejs/kit';
+import { z } from 'zod';
+import { apiError, apiRoute, labFromEvent } from '$lib/server/api';
+import { getAudit } from '$lib/server/audits';
+import { TREE_MAX_STATES, treesInto } from '$lib/server/audit-curves';
+import type { RequestHandler } from './$types';
+
+const treeQuery = z.object({ state: z.string({ error: 'state is required: the id of a state of the scheme, e.g. ?state=E' }).min(1) });
+
+/**
+ * The directed spanning trees of the audited scheme into one state (the diagram method), with their weights
+ * (products of effective rates, s^-(n-1)), their count and the sum Σ of their weights. Schemes up to 8 states.
+ */
+export const GET: RequestHandler = apiRoute(async (event) => {
+	const access = await labFromEvent(event, 'read');
+	const { state } = treeQuery.parse(Object.fromEntries(event.url.searchParams));
+	const audit = await getAudit(access.lab.id, event.params.audit);
+	const states = audit.inputs.states.map((s) => s.id);
+	if (states.length > TREE_MAX_STATES)
+		return apiError(400, 'too_many_states', `The scheme has ${states.length} states; spanning trees are drawn only up to ${TREE_MAX_STATES} states.`, {
+			states: states.length,
+			limit: TREE_MAX_STATES
+		});
+	if (!states.includes(state))
+		return apiError(400, 'invalid', `"${state}" is not a state of this scheme; use one of: ${states.join(', ')}.`, [
+			{ path: 'state', message: `unknown state "${state}"` }
+		]);
+	return json(treesInto(audit.inputs, state));
+});
