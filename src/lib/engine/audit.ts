@@ -11,7 +11,7 @@
  * `cautions` and `correction` (null when no cycle is a violation). Non-finite numbers become null.
  */
 import { chemistryModel } from './chemistry';
-import { CONSISTENCY_DEFAULTS, judgeCycle, type CycleJudgement, type Verdict } from './consistency';
+import { CONSISTENCY_DEFAULTS, cycleJudge, type CycleJudgement, type Verdict } from './consistency';
 import { CYCLE_DEFAULTS, cycleBasis, enumerateCycles, type Cycle } from './cycles';
 import { cycleFluxes } from './fluxes';
 import { observablesOf, type Observables } from './observables';
@@ -104,7 +104,7 @@ export function auditScheme(scheme: Scheme, options: Partial<AuditOptions> = {})
 	const ss = steadyState(table);
 	const J = stepFluxes(table, ss.p);
 	const graph = { n: table.n, m: table.m, from: table.from, to: table.to };
-	const judge = (c: Cycle) => judgeCycle(c, table, chemistry, scheme, o);
+	const judge = cycleJudge(table, chemistry, scheme, o);
 
 	const enumeration =
 		o.maxCycles > 0 ? enumerateCycles(graph, { maxCycles: o.maxCycles }) : { cycles: [] as Cycle[], complete: false };

@@ -24,6 +24,8 @@ export interface ChemistryModel {
 	stepExchange: Float64Array;
 	/** ΔG_r / kBT at the scheme's conditions */
 	reactionDeltaGkT: Float64Array;
+	/** least-squares solver of S·n = v, row-major reactions × species (built once: exchanges are many) */
+	pseudoInverse: Float64Array;
 }
 
 export function chemistryModel(scheme: Scheme, kT: number): ChemistryModel {
@@ -49,7 +51,15 @@ export function chemistryModel(scheme: Scheme, kT: number): ChemistryModel {
 			return g;
 		})
 	);
-	return { species, speciesIndex, reactionIds: scheme.reactions.map((r) => r.id), S, stepExchange, reactionDeltaGkT };
+	const R = scheme.reactions.length;
+	const pseudoInverse = new Float64Array(R * X);
+	if (R > 0)
+		for (let x = 0; x < X; x++) {
+			const unit = new Array<number>(X).fill(0);
+			unit[x] = 1;
+			leastSquares(S, unit).forEach((v, r) => (pseudoInverse[r * X + x] = v));
+		}
+	return { species, speciesIndex, reactionIds: scheme.reactions.map((r) => r.id), S, stepExchange, reactionDeltaGkT, pseudoInverse };
 }
 
 /** Integer coefficients n with S·n = exchange, or null when there are none (an unbalanced exchange). */
@@ -59,8 +69,14 @@ export function decomposeExchange(model: ChemistryModel, exchange: ArrayLike<num
 	for (let x = 0; x < exchange.length; x++) if (exchange[x] !== 0) nonzero = true;
 	if (!nonzero) return new Array<number>(R).fill(0);
 	if (R === 0) return null;
-	const n = leastSquares(model.S, Array.from(exchange)).map((v) => Math.round(v));
-	for (let x = 0; x < exchange.length; x++) {
+	const X = exchange.length;
+	const n = new Array<number>(R);
+	for (let r = 0; r < R; r++) {
+		let t = 0;
+		for (let x = 0; x < X; x++) t += model.pseudoInverse[r * X + x] * exchange[x];
+		n[r] = Math.round(t);
+	}
+	for (let x = 0; x < X; x++) {
 		let t = 0;
 		for (let r = 0; r < R; r++) t += model.S[x][r] * n[r];
 		if (Math.abs(t - exchange[x]) > 1e-9) return null;

@@ -39,6 +39,84 @@ export interface CycleJudgement {
 	displacementNm: number;
 }
 
+/** A judge for many cycles of one scheme: per-step data gathered once into typed arrays. */
+export function cycleJudge(
+	table: RateTable,
+	chemistry: ChemistryModel,
+	scheme: Scheme,
+	options: Partial<typeof CONSISTENCY_DEFAULTS> = {}
+): (cycle: Cycle) => CycleJudgement {
+	const toleranceLog10 = options.toleranceLog10 ?? CONSISTENCY_DEFAULTS.toleranceLog10;
+	const sigmaFactor = options.sigmaFactor ?? CONSISTENCY_DEFAULTS.sigmaFactor;
+	const X = chemistry.species.length;
+	// variance of ln k+ + ln k− per step; NaN marks "no uncertainty given"
+	const variance = new Float64Array(table.m);
+	scheme.steps.forEach((step, s) => {
+		const uf = step.relUncertaintyForward;
+		const ub = step.relUncertaintyBackward;
+		variance[s] = uf === null && ub === null ? NaN : (uf ?? 0) ** 2 + (ub ?? 0) ** 2;
+	});
+	const { lnPlus, lnMinus, displacementNm } = table;
+	const exchangeOf = chemistry.stepExchange;
+	const kT = table.kT;
+	const force = scheme.forcePN;
+	const LN10 = Math.LN10;
+	return (cycle) => {
+		const exchange = new Float64Array(X);
+		let lnForward = 0;
+		let lnBackward = 0;
+		let displacement = 0;
+		let total = 0;
+		let anyUncertainty = false;
+		for (const { step, direction } of cycle.steps) {
+			if (direction === 1) {
+				lnForward += lnPlus[step];
+				lnBackward += lnMinus[step];
+			} else {
+				lnForward += lnMinus[step];
+				lnBackward += lnPlus[step];
+			}
+			displacement += direction * displacementNm[step];
+			for (let x = 0; x < X; x++) exchange[x] += direction * exchangeOf[step * X + x];
+			const v = variance[step];
+			if (v === v) {
+				anyUncertainty = true;
+				total += v;
+			}
+		}
+		const counts = decomposeExchange(chemistry, exchange);
+		const reversible = Number.isFinite(lnForward) && Number.isFinite(lnBackward);
+		const log10RateRatio = reversible ? (lnForward - lnBackward) / LN10 : null;
+		let expectedLog10: number | null = null;
+		if (counts) {
+			let deltaG = (force * displacement) / kT;
+			for (let r = 0; r < counts.length; r++) deltaG += counts[r] * chemistry.reactionDeltaGkT[r];
+			expectedLog10 = -deltaG / LN10;
+		}
+		const deviationLog10 = log10RateRatio !== null && expectedLog10 !== null ? log10RateRatio - expectedLog10 : null;
+		const sigmaLog10 = anyUncertainty ? Math.sqrt(total) / LN10 : null;
+		let verdict: Verdict;
+		if (!counts) verdict = 'unbalanced';
+		else if (!reversible) verdict = 'irreversible';
+		else {
+			const dev = Math.abs(deviationLog10!);
+			verdict = dev <= toleranceLog10 || (sigmaLog10 !== null && dev <= sigmaFactor * sigmaLog10) ? 'consistent' : 'violation';
+		}
+		return {
+			lnForward,
+			lnBackward,
+			log10RateRatio,
+			expectedLog10,
+			deviationLog10,
+			sigmaLog10,
+			verdict,
+			reactionCounts: counts,
+			displacementNm: displacement
+		};
+	};
+}
+
+/** Judges one cycle (for many, build a `cycleJudge` once). */
 export function judgeCycle(
 	cycle: Cycle,
 	table: RateTable,
@@ -46,59 +124,5 @@ export function judgeCycle(
 	scheme: Scheme,
 	options: Partial<typeof CONSISTENCY_DEFAULTS> = {}
 ): CycleJudgement {
-	const { toleranceLog10, sigmaFactor } = { ...CONSISTENCY_DEFAULTS, ...options };
-	const X = chemistry.species.length;
-	const exchange = new Float64Array(X);
-	let lnForward = 0;
-	let lnBackward = 0;
-	let displacement = 0;
-	let variance = 0;
-	let anyUncertainty = false;
-	for (const { step, direction } of cycle.steps) {
-		if (direction === 1) {
-			lnForward += table.lnPlus[step];
-			lnBackward += table.lnMinus[step];
-		} else {
-			lnForward += table.lnMinus[step];
-			lnBackward += table.lnPlus[step];
-		}
-		displacement += direction * table.displacementNm[step];
-		for (let x = 0; x < X; x++) exchange[x] += direction * chemistry.stepExchange[step * X + x];
-		const def = scheme.steps[step];
-		for (const u of [def.relUncertaintyForward, def.relUncertaintyBackward])
-			if (u !== null) {
-				anyUncertainty = true;
-				variance += u * u;
-			}
-	}
-	const counts = decomposeExchange(chemistry, exchange);
-	const reversible = Number.isFinite(lnForward) && Number.isFinite(lnBackward);
-	const LN10 = Math.LN10;
-	const log10RateRatio = reversible ? (lnForward - lnBackward) / LN10 : null;
-	let expectedLog10: number | null = null;
-	if (counts) {
-		let deltaG = (scheme.forcePN * displacement) / table.kT;
-		counts.forEach((c, r) => (deltaG += c * chemistry.reactionDeltaGkT[r]));
-		expectedLog10 = -deltaG / LN10;
-	}
-	const deviationLog10 = log10RateRatio !== null && expectedLog10 !== null ? log10RateRatio - expectedLog10 : null;
-	const sigmaLog10 = anyUncertainty ? Math.sqrt(variance) / LN10 : null;
-	let verdict: Verdict;
-	if (!counts) verdict = 'unbalanced';
-	else if (!reversible) verdict = 'irreversible';
-	else {
-		const dev = Math.abs(deviationLog10!);
-		verdict = dev <= toleranceLog10 || (sigmaLog10 !== null && dev <= sigmaFactor * sigmaLog10) ? 'consistent' : 'violation';
-	}
-	return {
-		lnForward,
-		lnBackward,
-		log10RateRatio,
-		expectedLog10,
-		deviationLog10,
-		sigmaLog10,
-		verdict,
-		reactionCounts: counts,
-		displacementNm: displacement
-	};
+	return cycleJudge(table, chemistry, scheme, options)(cycle);
 }

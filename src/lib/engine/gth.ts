@@ -90,7 +90,8 @@ export function gthFactor(K: Float64Array, n: number, root = closedClassRoot(K, 
 			if (aik === 0) continue;
 			const f = aik / s;
 			const rowI = i * n;
-			for (let j = 0; j < k; j++) if (j !== i) a[rowI + j] += f * a[rowK + j];
+			// the diagonal is updated too but never read: no branch in the hot loop
+			for (let j = 0; j < k; j++) a[rowI + j] += f * a[rowK + j];
 		}
 	}
 	return { n, order, a, pivot };

@@ -7,7 +7,7 @@ export { enumerateCycles, cycleBasis, CYCLE_DEFAULTS } from './cycles';
 export type { Cycle, CycleStep } from './cycles';
 export { steadyState, stepFluxes } from './steady-state';
 export { cycleFluxes, cycleEntropyProduction } from './fluxes';
-export { judgeCycle, CONSISTENCY_DEFAULTS } from './consistency';
+export { judgeCycle, cycleJudge, CONSISTENCY_DEFAULTS } from './consistency';
 export type { Verdict, CycleJudgement } from './consistency';
 export { observables, velocityAt, stallForce, STALL_DEFAULTS } from './observables';
 export type { Observables } from './observables';
