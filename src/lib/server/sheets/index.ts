@@ -4,3 +4,8 @@ export type { SheetIssue } from './types';
 export { writeTemplate, templateWorkbook } from './template';
 export { EXAMPLE_SCHEME, EXAMPLE_LAB } from './example';
 export { LIMITS, SHEETS } from './layout';
+export { auditWorkbook, EXPORT_SHEETS } from './export-xlsx';
+export { auditCsv, neutralise } from './export-csv';
+export { auditPdf, DIAGRAM_MAX_STATES, PDF_TABLE_ROWS } from './export-pdf';
+export type { Signature } from './export-pdf';
+export type { Provenance, AuditTableName } from './audit-tables';
