@@ -63,4 +63,13 @@ describe('auditScheme', () => {
 		expect(audit.states[1].probabilityLog10).toBeNull();
 		expect(audit.findings.filter((f) => f.kind === 'transient-state').map((f) => f.path)).toEqual(['states[1]', 'states[2]', 'states[3]']);
 	});
+
+	it('regression, large schemes stalling on cycle fluxes: past maxFluxWork fluxes are null and a caution says so', () => {
+		const audit = auditScheme(freeEnergyScheme({ states: 80, steps: 160, seed: 2 }), { maxCycles: 500, maxFluxWork: 5e6 });
+		const withFlux = audit.cycles.filter((c) => c.forwardFlux !== null).length;
+		expect(withFlux).toBeGreaterThan(0);
+		expect(withFlux).toBeLessThan(audit.cycles.length);
+		expect(audit.cycles.slice(withFlux).every((c) => c.forwardFlux === null && c.netFlux === null)).toBe(true);
+		expect(audit.cautions.some((c) => c.includes(`first ${withFlux} of 500`))).toBe(true);
+	});
 });

@@ -1,3 +1,4 @@
+/** Escapement's audit engine: the public API (re-exports only; one algorithm per module). */
 export { SCHEME_FORMAT, AUDIT_FORMAT, ENGINE_VERSION, EngineError, parseScheme, formatPath, schemeSchema } from './scheme';
 export type { Scheme, SchemeState, SchemeStep, SchemeReaction, SchemeError, ParseResult } from './scheme';
 export { BOLTZMANN_J_PER_K, AVOGADRO_PER_MOL, GAS_CONSTANT_J_PER_MOL_K, thermalEnergyPNnm, molarThermalEnergyKJPerMol, kJPerMolToPNnm } from './units';
@@ -13,7 +14,9 @@ export { observables, velocityAt, stallForce, STALL_DEFAULTS } from './observabl
 export type { Observables } from './observables';
 export { proposeCorrection, applyCorrection } from './correction';
 export type { Correction, RateChange } from './correction';
-export { spanningTreesInto, TREE_DEFAULTS } from './trees';
+export { spanningTreesInto, bruteForceTreeSums, enumerateForests, TREE_DEFAULTS } from './trees';
+export { preciseAnalysis, PRECISE_DEFAULTS } from './precise';
+export type { PreciseResult } from './precise';
 export type { DirectedEdge, SpanningTree, SpanningTreeList } from './trees';
 export { PACER_STEPPER, PACER_STEPPER_MISFIT } from './examples';
 export { auditScheme, AUDIT_DEFAULTS } from './audit';
