@@ -217,7 +217,7 @@ function diagram(doc: Doc, scheme: Scheme) {
 			const sign = step.from < step.to ? 1 : -1;
 			const nx = (-(by - ay) / len) * sign;
 			const ny = ((bx - ax) / len) * sign;
-			const bow = (k - (group.length - 1) / 2) * 26;
+			const bow = (k - (group.length - 1) / 2) * 40;
 			const cx = (ax + bx) / 2 + nx * bow;
 			const cy = (ay + by) / 2 + ny * bow;
 			doc.moveTo(ax, ay).quadraticCurveTo(cx, cy, bx, by).lineWidth(0.9).strokeColor(step.kBackward === 0 || step.kForward === 0 ? '#b3541e' : INK).stroke();
