@@ -73,3 +73,9 @@ export function revisionParam(value: string | undefined): number {
 	if (!value || !/^\d+$/.test(value) || !Number.isSafeInteger(n) || n < 1) error(404, { message: `Revision "${value ?? ''}" does not exist; revisions are numbered 1, 2, 3, …`, code: 'not_found' });
 	return n;
 }
+
+/** The start of an audit export's file name: `<scheme>-r<revision>`, without characters file systems refuse. */
+export function auditFileStem(schemeName: string, revision: number): string {
+	const safe = schemeName.replace(/[\\/:*?"<>|\x00-\x1f]+/g, '-').replace(/\s+/g, ' ').trim().slice(0, 120) || 'scheme';
+	return `${safe}-r${revision}`;
+}

@@ -1,5 +1,5 @@
 import { json } from '@sveltejs/kit';
-import { apiRoute, labFromEvent } from '$lib/server/api';
+import { apiRoute, auditFileStem, labFromEvent } from '$lib/server/api';
 import { getAudit, provenanceOf, verifyAudit } from '$lib/server/audits';
 import type { RequestHandler } from './$types';
 
@@ -7,7 +7,7 @@ import type { RequestHandler } from './$types';
 export const GET: RequestHandler = apiRoute(async (event) => {
 	const access = await labFromEvent(event, 'read');
 	const audit = await getAudit(access.lab.id, event.params.audit);
-	const fileName = `${audit.schemeName}-r${audit.revision}-audit.json`;
+	const fileName = `${auditFileStem(audit.schemeName, audit.revision)}-audit.json`;
 	const ascii = fileName.replace(/[^\x20-\x7e]/g, '_').replace(/["\\]/g, '_');
 	return json(
 		{

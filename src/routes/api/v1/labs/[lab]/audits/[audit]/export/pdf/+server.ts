@@ -1,0 +1,15 @@
+import { apiRoute, auditFileStem, fileResponse, labFromEvent } from '$lib/server/api';
+import { getAudit, provenanceOf } from '$lib/server/audits';
+import { auditPdf } from '$lib/server/sheets/export-pdf';
+import type { RequestHandler } from './$types';
+
+/** The PDF report; a signed audit carries its signature block (signer, time, comment, SHA-256). */
+export const GET: RequestHandler = apiRoute(async (event) => {
+	const access = await labFromEvent(event, 'read');
+	const audit = await getAudit(access.lab.id, event.params.audit);
+	const signature = audit.signature
+		? { signer: audit.signature.signerName, signedAt: audit.signature.signedAt.toISOString(), comment: audit.signature.comment, sha256: audit.signature.sha256 }
+		: null;
+	const bytes = await auditPdf(audit.results, audit.inputs, provenanceOf(audit), signature);
+	return fileResponse(bytes, 'application/pdf', `${auditFileStem(audit.schemeName, audit.revision)}-audit.pdf`);
+});
