@@ -12,11 +12,11 @@ import { forceCenter, forceCollide, forceLink, forceManyBody, forceSimulation, f
 
 export const LAYOUT_DEFAULTS = {
 	/** preferred length of a step, in layout units */
-	linkDistance: 140,
+	linkDistance: 160,
 	/** many-body repulsion (negative repels) */
-	charge: -700,
+	charge: -850,
 	/** no two state centres closer than twice this */
-	collideRadius: 44,
+	collideRadius: 52,
 	ticks: 300,
 	/** distance between the midpoints of neighbouring parallel arcs */
 	parallelSpacing: 36
