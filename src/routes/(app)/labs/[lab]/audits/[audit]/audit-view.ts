@@ -63,10 +63,18 @@ export function sortAndFilterCycles(rows: CycleRow[], sort: CycleSort, descendin
 	});
 }
 
-/** The listed cycle whose deviation is largest against its own uncertainty, or null when none has both. */
+/**
+ * The listed cycle whose deviation is largest against its own uncertainty; when no cycle has an uncertainty, the one
+ * with the largest |deviation| (its zScore stays null); null when no cycle has a deviation at all.
+ */
 export function worstCycle(rows: CycleRow[]): CycleRow | null {
 	let worst: CycleRow | null = null;
 	for (const row of rows) if (row.zScore !== null && (worst === null || row.zScore > (worst.zScore ?? -1))) worst = row;
+	if (worst) return worst;
+	for (const row of rows) {
+		const d = row.cycle.deviationLog10;
+		if (d !== null && (worst === null || Math.abs(d) > Math.abs(worst.cycle.deviationLog10 ?? 0))) worst = row;
+	}
 	return worst;
 }
 
@@ -80,12 +88,18 @@ export function cycleStepsText(steps: AuditCycle['steps']): string {
 	return steps.map((s) => `${s.id} (${s.direction === 1 ? '+' : '−'})`).join(', ');
 }
 
-/** "1 × ATP hydrolysis", "none" for an empty exchange, "—" when the exchange is no combination of reactions. */
+/**
+ * "ATP hydrolysis", "2 × ATP hydrolysis", "Pi exchange (reverse)"; "none" for a cycle that exchanges nothing,
+ * "—" when the exchange is no combination of the reference reactions.
+ */
 export function netReactionText(netReaction: Record<string, number> | null): string {
 	if (netReaction === null) return '—';
 	const parts = Object.entries(netReaction)
 		.filter(([, n]) => n !== 0)
-		.map(([id, n]) => `${n < 0 ? '−' : ''}${Math.abs(n) === 1 ? '' : `${Math.abs(Number(n.toFixed(3)))} × `}${id}`);
+		.map(([id, n]) => {
+			const times = Math.abs(Number(n.toFixed(3)));
+			return `${times === 1 ? '' : `${times} × `}${id}${n < 0 ? ' (reverse)' : ''}`;
+		});
 	return parts.length ? parts.join(', ') : 'none';
 }
 
