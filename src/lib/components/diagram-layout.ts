@@ -107,7 +107,7 @@ export function layoutScheme(input: LayoutInput, options: Partial<LayoutOptions>
 	}));
 	const offsets = parallelOffsets(input.steps, o.parallelSpacing);
 	const edges: LayoutEdge[] = input.steps.map((s) => ({ stepId: s.id, from: s.from, to: s.to, offset: offsets.get(s.id) ?? 0 }));
-	return { nodes: laidOut, edges, bounds: boundsOf(laidOut, edges, o.collideRadius + 30) };
+	return { nodes: laidOut, edges, bounds: boundsOf(laidOut, edges, o.collideRadius + 12) };
 }
 
 /** The box around all nodes and arc midpoints, with a margin. */
