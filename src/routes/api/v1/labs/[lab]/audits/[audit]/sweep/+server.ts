@@ -5,6 +5,12 @@ import { getAudit } from '$lib/server/audits';
 import { SWEEP_MAX_POINTS, speciesOf, stallForceOrNull, velocitySweep } from '$lib/server/audit-curves';
 import type { RequestHandler } from './$types';
 
+/** A malformed query answers 400 naming the parameter and what to give. */
+function queryError(error: z.ZodError): Response {
+	const details = error.issues.map((i) => ({ path: i.path.join('.'), message: i.message }));
+	return apiError(400, 'invalid', `The query is not valid: ${details.map((d) => `${d.path}: ${d.message}`).join('; ')}.`, details);
+}
+
 const number = (what: string) =>
 	z.coerce.number({ error: `${what} must be a number` }).refine(Number.isFinite, { error: `${what} must be a finite number` });
 
@@ -29,7 +35,9 @@ const sweepQuery = z
  */
 export const GET: RequestHandler = apiRoute(async (event) => {
 	const access = await labFromEvent(event, 'read');
-	const query = sweepQuery.parse(Object.fromEntries(event.url.searchParams));
+	const parsed = sweepQuery.safeParse(Object.fromEntries(event.url.searchParams));
+	if (!parsed.success) return queryError(parsed.error);
+	const query = parsed.data;
 	const audit = await getAudit(access.lab.id, event.params.audit);
 	const scheme = audit.inputs;
 	const isForce = query.variable === 'force';

@@ -5,6 +5,12 @@ import { getAudit } from '$lib/server/audits';
 import { TREE_MAX_STATES, treesInto } from '$lib/server/audit-curves';
 import type { RequestHandler } from './$types';
 
+/** A malformed query answers 400 naming the parameter and what to give. */
+function queryError(error: z.ZodError): Response {
+	const details = error.issues.map((i) => ({ path: i.path.join('.'), message: i.message }));
+	return apiError(400, 'invalid', `The query is not valid: ${details.map((d) => `${d.path}: ${d.message}`).join('; ')}.`, details);
+}
+
 const treeQuery = z.object({ state: z.string({ error: 'state is required: the id of a state of the scheme, e.g. ?state=E' }).min(1) });
 
 /**
@@ -13,7 +19,9 @@ const treeQuery = z.object({ state: z.string({ error: 'state is required: the id
  */
 export const GET: RequestHandler = apiRoute(async (event) => {
 	const access = await labFromEvent(event, 'read');
-	const { state } = treeQuery.parse(Object.fromEntries(event.url.searchParams));
+	const parsed = treeQuery.safeParse(Object.fromEntries(event.url.searchParams));
+	if (!parsed.success) return queryError(parsed.error);
+	const { state } = parsed.data;
 	const audit = await getAudit(access.lab.id, event.params.audit);
 	const states = audit.inputs.states.map((s) => s.id);
 	if (states.length > TREE_MAX_STATES)
