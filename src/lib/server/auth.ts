@@ -31,6 +31,12 @@ function authConfig(): SvelteKitAuthConfig {
 	}),
 	secret: config.authSecret,
 	trustHost: true,
+	logger: {
+		// A wrong password is an everyday event, not a server error.
+		error(err) {
+			if ((err as { type?: string }).type !== 'CredentialsSignin') console.error('[escapement] auth:', err);
+		}
+	},
 	session: { strategy: 'jwt', maxAge: SESSION_MAX_AGE_S },
 	pages: { signIn: '/signin', error: '/signin', verifyRequest: '/signin/check-mail' },
 	providers: [

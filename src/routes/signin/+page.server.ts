@@ -1,4 +1,4 @@
-import { redirect } from '@sveltejs/kit';
+import { fail, isRedirect, redirect } from '@sveltejs/kit';
 import { signIn } from '$lib/server/auth';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -21,4 +21,17 @@ export const load: PageServerLoad = ({ locals, url }) => {
 	return { next, message: code ? (MESSAGES[code] ?? 'Sign-in failed. Try again.') : null };
 };
 
-export const actions: Actions = { default: signIn };
+export const actions: Actions = {
+	default: async (event) => {
+		const form = await event.request.clone().formData();
+		try {
+			await signIn(event);
+		} catch (err) {
+			if (isRedirect(err)) throw err;
+			// Auth.js throws on a wrong password; answer on the page without saying which part was wrong.
+			const type = (err as { type?: string }).type;
+			if (type === 'CredentialsSignin') return fail(400, { message: MESSAGES.CredentialsSignin, email: String(form.get('email') ?? '') });
+			throw err;
+		}
+	}
+};
