@@ -7,6 +7,7 @@ export PORT="${PORT:-5180}"
 export PGPORT="${PGPORT:-54329}"
 export SMTP_SINK_PORT="${SMTP_SINK_PORT:-2526}"
 export HOST=127.0.0.1
+export BODY_SIZE_LIMIT="${BODY_SIZE_LIMIT:-12M}"  # rate tables up to 10 MB (the import refuses larger ones itself)
 export ORIGIN="${ORIGIN:-http://127.0.0.1:$PORT}"
 
 port_in_use "$PORT" && die "port $PORT is in use; stop the other program or run 'PORT=5181 npm start'."

@@ -9,6 +9,7 @@ export PGPORT="${TEST_PGPORT:-54339}"
 export PORT="${TEST_PORT:-5190}"
 export SMTP_SINK_PORT="${TEST_SMTP_PORT:-2536}"
 export HOST=127.0.0.1
+export BODY_SIZE_LIMIT="${BODY_SIZE_LIMIT:-12M}"  # rate tables up to 10 MB (the import refuses larger ones itself)
 export ORIGIN="http://127.0.0.1:$PORT"
 export E2E_BASE_URL="$ORIGIN"
 export ESCAPEMENT_ENV=test
