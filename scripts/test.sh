@@ -66,6 +66,11 @@ if (cd "$ROOT" && npx svelte-kit sync >/dev/null && npx vite build --logLevel er
   pg_drop_create "$PGPORT" escapement_e2e >/dev/null
   export DATABASE_URL="postgres://postgres@127.0.0.1:$PGPORT/escapement_e2e"
   (cd "$ROOT" && npx tsx scripts/migrate.ts >/dev/null && npx tsx scripts/seed.ts >/dev/null) || { tally 0 1; say "seeding the browser-test database failed"; }
+  # The browser tests' own mail sink, storing into their database (lab leads read it on the Caught mail page).
+  export SMTP_SINK_PORT=$((SMTP_SINK_PORT + 1))
+  export SMTP_URL="smtp://127.0.0.1:$SMTP_SINK_PORT"
+  (cd "$ROOT" && exec npx tsx scripts/mail-sink.ts) > "$OUT/mail-sink-e2e.log" 2>&1 &
+  children+=($!)
   (cd "$ROOT" && exec node build) > "$OUT/server.log" 2>&1 &
   server=$!; children+=($server)
   for _ in $(seq 1 60); do port_in_use "$PORT" && break; sleep 0.5; done

@@ -83,7 +83,7 @@ describe('PDF report, opened with pdfjs', () => {
 		const a = auditScheme(v);
 		const bytes = await auditPdf(a, v, provenance(a), null);
 		const all = (await pdfPages(bytes)).join('\n').replace(/\s+/g, ' ');
-		for (const c of a.cycles) expect(all).toContain(`${[...c.states, c.states[0]].join(' > ')} ${c.verdict}`);
+		for (const c of a.cycles) expect(all).toContain(`${[...c.states, c.states[0]].join(' -> ')} ${c.verdict}`);
 		const raw = Buffer.from(bytes).toString('latin1');
 		expect(raw).toMatch(/\/FontFile2|\/FontFile3|\/FontFile/);
 		expect(raw).toMatch(/IBMPlexSans/);

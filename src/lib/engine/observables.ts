@@ -102,7 +102,7 @@ export function observablesOf(
 	return {
 		velocityNmPerS: velocity,
 		diffusionNm2PerS: diffusion,
-		randomness: scheme.stepSizeNm !== null && velocity !== 0 ? (2 * diffusion) / (velocity * scheme.stepSizeNm) : null,
+		randomness: scheme.stepSizeNm !== null && velocity !== 0 ? (2 * diffusion) / (Math.abs(velocity) * scheme.stepSizeNm) : null,
 		entropyProductionKTPerS: Number.isFinite(sigma) ? sigma : null,
 		reactionRatesPerS,
 		efficiency: scheme.forcePN !== 0 && chemicalPower !== 0 ? mechanicalPower / chemicalPower : null

@@ -5,7 +5,7 @@
  *
  * Fonts: IBM Plex Sans and Mono from the @fontsource packages, unwrapped from WOFF and embedded;
  * nothing is fetched from the network. Their Latin subset has no Greek and no →, so text is
- * passed through `pdfText` (Π → P, → → >, …). The diagram is laid out headless with d3-force (its
+ * passed through `pdfText` (Π → Pi, → → ->, …). The diagram is laid out headless with d3-force (its
  * default random source is a fixed-seed LCG, so the same scheme gives the same picture); parallel steps
  * between two states are drawn as curves bowed apart. Schemes above DIAGRAM_MAX_STATES states get no
  * diagram (it would be unreadable on a page).
@@ -91,7 +91,8 @@ function loadFonts() {
 	return fonts;
 }
 
-const REPLACE: Record<string, string> = { '→': '>', '←': '<', 'Π': 'P', 'Δ': 'd', 'σ': 's', 'κ': 'k', 'θ': 'theta', '⁻': '-', '¹': '1', '′': "'", 'χ': 'chi', 'λ': 'lambda', 'μ': 'µ' };
+/** Greek letters and arrows spelled out: the embedded Latin subset has no glyphs for them, and 'P' for Π would mislead. */
+const REPLACE: Record<string, string> = { '→': '->', '←': '<-', '⇌': '<->', 'Π': 'Pi', 'Δ': 'Delta ', 'σ': 'sigma', 'κ': 'kappa', 'θ': 'theta', '⁻': '-', '¹': '1', '′': "'", 'χ': 'chi', 'λ': 'lambda', 'μ': 'µ' };
 
 /** Text the embedded Latin fonts can show. */
 export function pdfText(text: string): string {
@@ -330,7 +331,7 @@ export async function auditPdf(audit: Audit, scheme: Scheme | null, provenance: 
 		],
 		cycles.map((cy, i) => [
 			String(i + 1),
-			[...cy.states, cy.states[0]].join(' > '),
+			[...cy.states, cy.states[0]].join(' -> '),
 			cy.verdict,
 			formatNumber(cy.deviationLog10),
 			formatNumber(cy.sigmaLog10),
@@ -357,10 +358,10 @@ export async function auditPdf(audit: Audit, scheme: Scheme | null, provenance: 
 	const steps = new Map((scheme?.steps ?? []).map((s) => [s.id, s]));
 	table(
 		doc,
-		[{ header: 'step', width: 50 }, { header: 'from > to', width: 80 }, { header: 'effective rate forward (1/s)', width: 100, align: 'right' }, { header: 'effective rate backward (1/s)', width: 100, align: 'right' }, { header: 'net flux (1/s)', width: 90, align: 'right' }],
+		[{ header: 'step', width: 50 }, { header: 'from -> to', width: 80 }, { header: 'effective rate forward (1/s)', width: 100, align: 'right' }, { header: 'effective rate backward (1/s)', width: 100, align: 'right' }, { header: 'net flux (1/s)', width: 90, align: 'right' }],
 		audit.steps.slice(0, PDF_TABLE_ROWS).map((s) => {
 			const st = steps.get(s.id);
-			return [s.id, st ? `${st.from} > ${st.to}` : '', formatNumber(s.forwardRate), formatNumber(s.backwardRate), formatNumber(s.netFlux)];
+			return [s.id, st ? `${st.from} -> ${st.to}` : '', formatNumber(s.forwardRate), formatNumber(s.backwardRate), formatNumber(s.netFlux)];
 		}),
 		audit.steps.length > PDF_TABLE_ROWS ? `${audit.steps.length - PDF_TABLE_ROWS} more steps are in the workbook and CSV exports.` : undefined
 	);
