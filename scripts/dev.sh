@@ -6,7 +6,7 @@ export SMTP_SINK_PORT="${SMTP_SINK_PORT:-2526}"
 started_pg=""; children=()
 cleanup() {
   trap - INT TERM EXIT
-  for pid in "${children[@]}"; do kill "$pid" 2>/dev/null || true; done
+  stop_children "${children[@]}"
   [ -n "$started_pg" ] && pg_stop dev
 }
 trap cleanup INT TERM EXIT
@@ -15,7 +15,7 @@ if ! pg_run "$PGBIN/pg_ctl" -D "$(pg_data_base)/dev" status >/dev/null 2>&1; the
 pg_start dev "$PGPORT" escapement
 ensure_secret
 (cd "$ROOT" && npx tsx scripts/migrate.ts && npx tsx scripts/seed.ts) || die "migrate or seed failed."
-(cd "$ROOT" && exec npx tsx scripts/mail-sink.ts) &
+(cd "$ROOT" && exec node --import tsx scripts/mail-sink.ts) &
 children+=($!)
 export SMTP_URL="${SMTP_URL:-smtp://127.0.0.1:$SMTP_SINK_PORT}"
 export ORIGIN="http://127.0.0.1:${PORT:-5173}"

@@ -122,3 +122,16 @@ build_app() {
   (cd "$ROOT" && npx svelte-kit sync >/dev/null && npx vite build --logLevel error) || die "the build failed (see above)."
   touch "$ROOT/build/.escapement-stamp"
 }
+
+stop_children() {
+  # stop_children PID... : SIGTERM, up to 10 s for a graceful exit, then SIGKILL. Never hangs.
+  local pid
+  for pid in "$@"; do kill "$pid" 2>/dev/null || true; done
+  for _ in $(seq 1 20); do
+    local alive=0
+    for pid in "$@"; do kill -0 "$pid" 2>/dev/null && alive=1; done
+    [ "$alive" = 0 ] && return 0
+    sleep 0.5
+  done
+  for pid in "$@"; do kill -9 "$pid" 2>/dev/null || true; done
+}

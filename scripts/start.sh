@@ -16,8 +16,7 @@ started_pg=""
 children=()
 cleanup() {
   trap - INT TERM EXIT
-  for pid in "${children[@]}"; do kill "$pid" 2>/dev/null || true; done
-  wait 2>/dev/null || true
+  stop_children "${children[@]}"
   [ -n "$started_pg" ] && pg_stop dev
   say "stopped."
 }
@@ -34,7 +33,7 @@ say "seeding the demo lab (kept if already there)"
 if needs_build; then build_app; else say "build is up to date"; fi
 
 say "starting the mail sink on 127.0.0.1:$SMTP_SINK_PORT"
-(cd "$ROOT" && exec npx tsx scripts/mail-sink.ts) &
+(cd "$ROOT" && exec node --import tsx scripts/mail-sink.ts) &
 children+=($!)
 export SMTP_URL="${SMTP_URL:-smtp://127.0.0.1:$SMTP_SINK_PORT}"
 

@@ -20,8 +20,7 @@ passed=0; failed=0
 children=()
 cleanup() {
   trap - INT TERM EXIT
-  for pid in "${children[@]}"; do kill "$pid" 2>/dev/null || true; done
-  wait 2>/dev/null
+  stop_children "${children[@]}"
   pg_stop test
 }
 trap cleanup INT TERM EXIT
@@ -45,7 +44,7 @@ say "migrating the test database"
 if ! (cd "$ROOT" && npx tsx scripts/migrate.ts); then echo "0 passed, 1 failed"; exit 1; fi
 
 say "mail sink on 127.0.0.1:$SMTP_SINK_PORT"
-(cd "$ROOT" && exec npx tsx scripts/mail-sink.ts) > "$OUT/mail-sink.log" 2>&1 &
+(cd "$ROOT" && exec node --import tsx scripts/mail-sink.ts) > "$OUT/mail-sink.log" 2>&1 &
 children+=($!)
 export SMTP_URL="smtp://127.0.0.1:$SMTP_SINK_PORT"
 
@@ -69,7 +68,7 @@ if (cd "$ROOT" && npx svelte-kit sync >/dev/null && npx vite build --logLevel er
   # The browser tests' own mail sink, storing into their database (lab leads read it on the Caught mail page).
   export SMTP_SINK_PORT=$((SMTP_SINK_PORT + 1))
   export SMTP_URL="smtp://127.0.0.1:$SMTP_SINK_PORT"
-  (cd "$ROOT" && exec npx tsx scripts/mail-sink.ts) > "$OUT/mail-sink-e2e.log" 2>&1 &
+  (cd "$ROOT" && exec node --import tsx scripts/mail-sink.ts) > "$OUT/mail-sink-e2e.log" 2>&1 &
   children+=($!)
   (cd "$ROOT" && exec node build) > "$OUT/server.log" 2>&1 &
   server=$!; children+=($server)

@@ -3,13 +3,19 @@ import { sequence } from '@sveltejs/kit/hooks';
 import { authHandle } from '$lib/server/auth';
 import { config } from '$lib/server/config';
 import { userFromApiToken } from '$lib/server/api-tokens';
-import { startJobs } from '$lib/server/jobs';
+import { startJobs, stopJobs } from '$lib/server/jobs';
+import { closeDb } from '$lib/server/db';
 
 export const init: ServerInit = async () => {
 	// Fail fast with a clear message when the environment is incomplete.
 	void config.databaseUrl;
 	void config.authSecret;
 	await startJobs();
+	// adapter-node waits for the event loop to empty after SIGTERM: release the job queue and the pool so it can.
+	process.once('sveltekit:shutdown', async () => {
+		await stopJobs().catch(() => {});
+		await closeDb().catch(() => {});
+	});
 };
 
 /** Personal API tokens (Authorization: Bearer …) identify scripts; the session cookie identifies browsers. */

@@ -7,12 +7,14 @@ import ExcelJS from 'exceljs';
 import type { BrowserContext, Page } from 'playwright-core';
 import { BASE_URL, openBrowser, shot, signIn } from './browser';
 import { filledTemplate, loadBook, bytesOf, col } from '../fixtures/sheets/build';
+import type { SchemeLike } from '../fixtures/sheets/schemes';
 import { compositeWithViolation } from '../../src/lib/server/demo/schemes';
 
 let context: BrowserContext;
 let page: Page;
 const XLSX = 'application/vnd.openxmlformats-officedocument.spreadsheetml.sheet';
-const scheme = { ...compositeWithViolation(), stepSizeNm: 8, name: `Journey composite ${Date.now()}` };
+// The fixture's scheme type has optional uncertainties where the engine's has nulls; the writer handles both.
+const scheme = { ...compositeWithViolation(), stepSizeNm: 8, name: `Journey composite ${Date.now()}` } as unknown as SchemeLike & { name: string };
 let schemeUrl = '';
 let auditUrl = '';
 

@@ -2,16 +2,20 @@
  * The review workflow end to end through the services, with the real job queue and the local SMTP sink:
  * submit → reviewers mailed → sign (password again) → author mailed; return → author mailed; signed audits frozen.
  */
-import { afterAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { eq, sql } from 'drizzle-orm';
 import { db, schema, makeLab, TEST_PASSWORD } from './db';
 import { createScheme } from '../../src/lib/server/schemes';
 import { runAudit, getAudit, verifyAudit } from '../../src/lib/server/audits';
 import { submitForReview, signAudit, returnAudit, reviewQueue } from '../../src/lib/server/reviews';
-import { stopJobs } from '../../src/lib/server/jobs';
+import { startJobs, stopJobs } from '../../src/lib/server/jobs';
 import { stepperWithFutileBranch } from '../../src/lib/server/demo/schemes';
 import type { LabAccess } from '../../src/lib/server/access';
 
+// This file works the mail queue itself, as the web server does; other test files only queue.
+beforeAll(async () => {
+	await startJobs();
+});
 afterAll(async () => {
 	await stopJobs();
 });

@@ -6,12 +6,6 @@ import { LIMITS } from '../../src/lib/server/sheets/layout';
 import { bytesOf, filledTemplate, zip } from '../fixtures/sheets/build';
 import { VESSEL3 } from '../fixtures/sheets/schemes';
 
-async function timed<T>(f: () => Promise<T>): Promise<{ result: T; ms: number }> {
-	const t0 = performance.now();
-	const result = await f();
-	return { result, ms: performance.now() - t0 };
-}
-
 function refusal(r: Awaited<ReturnType<typeof importRateTable>>) {
 	expect(r.ok).toBe(false);
 	if (r.ok) throw new Error('accepted');
@@ -30,12 +24,12 @@ async function ring(n: number): Promise<Uint8Array> {
 	return bytesOf(wb);
 }
 
-describe('files over a limit, mislabelled files and bombs are refused quickly', () => {
+// How fast each refusal is: `npm run bench` (scripts/bench-import.ts) prints the table; tests assert what, not how fast.
+describe('files over a limit, mislabelled files and bombs are refused before parsing', () => {
 	it(`a file over ${LIMITS.fileBytes / 1048576} MB is refused before reading`, async () => {
 		const big = new Uint8Array(LIMITS.fileBytes + 1).fill(0x41);
-		const { result, ms } = await timed(() => importRateTable(big, 'huge.csv'));
+		const result = await importRateTable(big, 'huge.csv');
 		expect(refusal(result).message).toMatch(/limit is 10\.0 MB/);
-		expect(ms).toBeLessThan(100);
 	});
 
 	it('a zip bomb whose directory states its true size is refused from the directory alone', async () => {
@@ -43,9 +37,8 @@ describe('files over a limit, mislabelled files and bombs are refused quickly', 
 			{ name: 'xl/workbook.xml', data: workbookXml },
 			{ name: 'xl/worksheets/sheet1.xml', data: Buffer.alloc(0), claimedSize: 900 * 1024 * 1024 }
 		];
-		const { result, ms } = await timed(() => importRateTable(zip(parts), 'bomb.xlsx'));
+		const result = await importRateTable(zip(parts), 'bomb.xlsx');
 		expect(refusal(result).message).toMatch(/zip bomb/);
-		expect(ms).toBeLessThan(100);
 	});
 
 	it('a zip bomb that lies about its size stops inflating at the stated size', async () => {
@@ -60,10 +53,8 @@ describe('files over a limit, mislabelled files and bombs are refused quickly', 
 		view.writeUInt16LE(8, cd + 10);
 		const local = view.indexOf(Buffer.from('xl/worksheets/sheet1.xml')) - 30;
 		view.writeUInt16LE(8, local + 8);
-		const { result, ms } = await timed(() => importRateTable(new Uint8Array(view), 'liar.xlsx'));
+		const result = await importRateTable(new Uint8Array(view), 'liar.xlsx');
 		expect(refusal(result).message).toMatch(/more than the size its zip directory states/);
-		expect(ms).toBeLessThan(250);
-		console.info(`lying zip bomb (48 MB of filler in ${(payload.length / 1024).toFixed(0)} kB) refused in ${ms.toFixed(1)} ms`);
 	});
 
 	it('an entry packed far beyond any spreadsheet ratio is refused', async () => {
@@ -72,9 +63,8 @@ describe('files over a limit, mislabelled files and bombs are refused quickly', 
 			{ name: 'xl/workbook.xml', data: workbookXml },
 			{ name: 'xl/worksheets/sheet1.xml', data: filler }
 		]);
-		const { result, ms } = await timed(() => importRateTable(bytes, 'ratio.xlsx'));
+		const result = await importRateTable(bytes, 'ratio.xlsx');
 		expect(refusal(result).message).toMatch(/times its packed size/);
-		expect(ms).toBeLessThan(100);
 	});
 
 	it('a gigantic sheet is refused before it is parsed', async () => {
@@ -84,28 +74,23 @@ describe('files over a limit, mislabelled files and bombs are refused quickly', 
 			{ name: 'xl/workbook.xml', data: workbookXml },
 			{ name: 'xl/worksheets/sheet1.xml', data: Buffer.from(xml) }
 		]);
-		const { result, ms } = await timed(() => importRateTable(bytes, 'tall.xlsx'));
+		const result = await importRateTable(bytes, 'tall.xlsx');
 		expect(refusal(result).message).toMatch(new RegExp(`${rows} rows; the limit is ${LIMITS.rowsPerSheet}`));
-		expect(ms).toBeLessThan(250);
-		console.info(`sheet of ${rows} rows refused in ${ms.toFixed(1)} ms`);
 	});
 
 	it(`${LIMITS.steps} steps import; ${LIMITS.steps + 1} are refused`, async () => {
 		const ok = await ring(LIMITS.steps);
-		const { result, ms } = await timed(() => importRateTable(ok, 'ring.xlsx'));
+		const result = await importRateTable(ok, 'ring.xlsx');
 		expect(result.ok).toBe(true);
 		if (result.ok) expect(result.scheme.steps).toHaveLength(LIMITS.steps);
-		console.info(`${LIMITS.steps}-step workbook (${(ok.length / 1024).toFixed(0)} kB) imported in ${ms.toFixed(0)} ms`);
-		expect(ms).toBeLessThan(8000);
 		const over = await importRateTable(await ring(LIMITS.steps + 1), 'ring.xlsx');
 		expect(refusal(over).message).toMatch(/5001 steps; the limit is 5000/);
 	});
 
 	it('a CSV with more lines than any allowed table is refused before parsing', async () => {
 		const csv = 'from state,to state,k forward (1/s),k backward (1/s)\n' + 'A,B,1,1\n'.repeat(LIMITS.rowsPerSheet + 300);
-		const { result, ms } = await timed(() => importRateTable(new TextEncoder().encode(csv), 'long.csv'));
+		const result = await importRateTable(new TextEncoder().encode(csv), 'long.csv');
 		expect(refusal(result).message).toMatch(/limit is/);
-		expect(ms).toBeLessThan(100);
 	});
 
 	it.each([

@@ -50,7 +50,7 @@ describe('velocity and diffusion of the two-state periodic model — Derrida 198
 			const o = observables(s);
 			expect(Math.abs(o.velocityNmPerS - V)).toBeLessThanOrEqual(twoState.relativeTolerance * Math.max(Math.abs(V), d * S * 1e-3));
 			expect(Math.abs(o.diffusionNm2PerS / D - 1)).toBeLessThan(twoState.relativeTolerance);
-			if (V !== 0) expect(o.randomness!).toBeCloseTo((2 * D) / (V * d), 10); // Svoboda, Mitra & Block 1994 [pub]
+			if (V !== 0) expect(o.randomness!).toBeCloseTo((2 * D) / (Math.abs(V) * d), 10); // Svoboda, Mitra & Block 1994 [pub]
 			else expect(o.randomness).toBeNull();
 		}
 	);

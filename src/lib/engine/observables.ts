@@ -5,7 +5,7 @@
  *
  * V = p·Q1·1;  Q r = V·1 − Q1·1 with p·r = 0;  D = ½·p·Q2·1 + p·Q1·r  [der], equivalent to the derivatives of
  * the top eigenvalue of the tilted generator (characteristic-polynomial form: Koza 1999, J Phys A 32:7637 [pub]).
- * Randomness 2D/(V·δ): Svoboda, Mitra & Block 1994, PNAS 91:11782 [pub]. Entropy production
+ * Randomness 2D/(|V|·δ) (positive for either direction of motion): Svoboda, Mitra & Block 1994, PNAS 91:11782 [pub]. Entropy production
  * Σ_s J_s ln(p_from k+/(p_to k−)): Schnakenberg 1976, Rev Mod Phys 48:571 [pub]. Stall force: Brent 1973,
  * Algorithms for Minimization without Derivatives, ch. 4 [pub].
  * Cost: O(n³) for the GTH factors (shared with the steady state), O(n² + steps) for V, D and the rest;

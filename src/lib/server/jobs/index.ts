@@ -1,6 +1,8 @@
 /**
- * Background jobs with pg-boss, in the web server's process: mail delivery is queued so that a slow mail server
- * never holds up a request. Queues are created before anything is sent (a send to a missing queue is dropped).
+ * Background jobs with pg-boss: mail delivery is queued so that a slow mail server never holds up a request.
+ * Any process may queue (getBoss); only the web server works the queue (startJobs, from its init hook), so that a
+ * short-lived process (a script, a test file) never takes a job and exits before sending it.
+ * Queues are created before anything is sent (a send to a missing queue is dropped).
  */
 import PgBoss from 'pg-boss';
 import { config } from '../config';
@@ -8,33 +10,42 @@ import { sendMail, type OutgoingMail } from '../mail/send';
 
 export const QUEUES = { mail: 'mail' } as const;
 
-let boss: PgBoss | undefined;
-let starting: Promise<PgBoss> | undefined;
+let booting: Promise<PgBoss> | undefined;
+let working: Promise<void> | undefined;
 
-export function startJobs(): Promise<PgBoss> {
-	starting ??= (async () => {
-		const instance = new PgBoss({ connectionString: config.databaseUrl, schema: 'pgboss', max: 4 });
-		instance.on('error', (err) => console.error('[escapement] job queue:', err.message));
-		await instance.start();
-		await instance.createQueue(QUEUES.mail);
-		await instance.work<OutgoingMail>(QUEUES.mail, async (jobs) => {
-			for (const job of jobs) await sendMail(job.data);
-		});
-		boss = instance;
-		return instance;
+/** The started pg-boss instance of this process, with its queues created. */
+export function getBoss(): Promise<PgBoss> {
+	booting ??= (async () => {
+		const boss = new PgBoss({ connectionString: config.databaseUrl, schema: 'pgboss', max: 4 });
+		boss.on('error', (err) => console.error('[escapement] job queue:', err.message));
+		await boss.start();
+		await boss.createQueue(QUEUES.mail);
+		return boss;
 	})();
-	return starting;
+	return booting;
 }
 
-/** Queue a message; it is sent by the worker, retried on failure. */
+/** Works the queues in this process (the web server). Safe to call more than once. */
+export function startJobs(): Promise<void> {
+	working ??= (async () => {
+		const boss = await getBoss();
+		await boss.work<OutgoingMail>(QUEUES.mail, { pollingIntervalSeconds: 1 }, async (jobs) => {
+			for (const job of jobs) await sendMail(job.data);
+		});
+	})();
+	return working;
+}
+
+/** Queue a message; the web server's worker sends it, retrying on failure. */
 export async function queueMail(mail: OutgoingMail): Promise<void> {
-	const instance = boss ?? (await startJobs());
-	const id = await instance.send(QUEUES.mail, mail, { retryLimit: 5, retryDelay: 10, retryBackoff: true });
+	const boss = await getBoss();
+	const id = await boss.send(QUEUES.mail, mail, { retryLimit: 5, retryDelay: 5, retryBackoff: true });
 	if (!id) throw new Error(`jobs: the mail queue did not accept the message to ${String(mail.to)}; is the "${QUEUES.mail}" queue created?`);
 }
 
 export async function stopJobs(): Promise<void> {
+	const boss = booting && (await booting);
+	booting = undefined;
+	working = undefined;
 	await boss?.stop({ graceful: true, wait: true });
-	boss = undefined;
-	starting = undefined;
 }
