@@ -2,26 +2,15 @@
  * How fast the rate-table import accepts a large sheet and refuses bad files (oversized, zip bombs, gigantic sheets).
  * Prints a table; the tests check what is refused, this shows how fast. Run with `npm run bench`.
  */
-import ExcelJS from 'exceljs';
 import { deflateRawSync } from 'node:zlib';
 import { importRateTable } from '../src/lib/server/sheets/import';
 import { LIMITS } from '../src/lib/server/sheets/layout';
-import { bytesOf, zip } from '../tests/fixtures/sheets/build';
-
-const workbookXml = Buffer.from('<?xml version="1.0"?><workbook xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main"><sheets><sheet name="Steps" sheetId="1" r:id="rId1"/></sheets></workbook>');
-
-async function ring(n: number): Promise<Uint8Array> {
-	const wb = new ExcelJS.Workbook();
-	const ws = wb.addWorksheet('Steps');
-	ws.addRow(['step', 'from state', 'to state', 'k forward (1/s)', 'k backward (1/s)', 'displacement (nm)']);
-	for (let i = 0; i < n; i++) ws.addRow([`s${i}`, `X${i}`, `X${(i + 1) % n}`, 10 + (i % 7), 1 + (i % 3), 0.5]);
-	return bytesOf(wb);
-}
+import { WORKBOOK_XML, ringWorkbook, zip } from '../tests/fixtures/sheets/build';
 
 function lyingBomb(): Uint8Array {
 	const payload = deflateRawSync(Buffer.alloc(48 * 1024 * 1024, 0x20));
 	const bytes = zip([
-		{ name: 'xl/workbook.xml', data: workbookXml },
+		{ name: 'xl/workbook.xml', data: WORKBOOK_XML },
 		{ name: 'xl/worksheets/sheet1.xml', data: payload, store: true, claimedSize: 2048 }
 	]);
 	const view = Buffer.from(bytes.buffer);
@@ -33,11 +22,11 @@ function lyingBomb(): Uint8Array {
 const tallRows = LIMITS.rowsPerSheet + 500;
 const cases: [string, string, () => Promise<Uint8Array> | Uint8Array][] = [
 	[`file over ${LIMITS.fileBytes / 1048576} MB`, 'huge.csv', () => new Uint8Array(LIMITS.fileBytes + 1).fill(0x41)],
-	['zip bomb, true size in directory (900 MB)', 'bomb.xlsx', () => zip([{ name: 'xl/workbook.xml', data: workbookXml }, { name: 'xl/worksheets/sheet1.xml', data: Buffer.alloc(0), claimedSize: 900 * 1024 * 1024 }])],
+	['zip bomb, true size in directory (900 MB)', 'bomb.xlsx', () => zip([{ name: 'xl/workbook.xml', data: WORKBOOK_XML }, { name: 'xl/worksheets/sheet1.xml', data: Buffer.alloc(0), claimedSize: 900 * 1024 * 1024 }])],
 	['zip bomb lying about its size (48 MB)', 'liar.xlsx', lyingBomb],
-	[`sheet of ${tallRows} rows`, 'tall.xlsx', () => zip([{ name: 'xl/workbook.xml', data: workbookXml }, { name: 'xl/worksheets/sheet1.xml', data: Buffer.from('<worksheet><sheetData>' + Array.from({ length: tallRows }, (_, i) => `<row r="${i + 1}"><c r="A${i + 1}"><v>1</v></c></row>`).join('') + '</sheetData></worksheet>') }])],
-	[`${LIMITS.steps}-step workbook (accepted)`, 'ring.xlsx', () => ring(LIMITS.steps)],
-	[`${LIMITS.steps + 1}-step workbook`, 'ring.xlsx', () => ring(LIMITS.steps + 1)]
+	[`sheet of ${tallRows} rows`, 'tall.xlsx', () => zip([{ name: 'xl/workbook.xml', data: WORKBOOK_XML }, { name: 'xl/worksheets/sheet1.xml', data: Buffer.from('<worksheet><sheetData>' + Array.from({ length: tallRows }, (_, i) => `<row r="${i + 1}"><c r="A${i + 1}"><v>1</v></c></row>`).join('') + '</sheetData></worksheet>') }])],
+	[`${LIMITS.steps}-step workbook (accepted)`, 'ring.xlsx', () => ringWorkbook(LIMITS.steps)],
+	[`${LIMITS.steps + 1}-step workbook`, 'ring.xlsx', () => ringWorkbook(LIMITS.steps + 1)]
 ];
 
 console.log('\nRate-table import: time to accept or refuse (median of 3)\n');

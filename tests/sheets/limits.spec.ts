@@ -1,9 +1,8 @@
-import ExcelJS from 'exceljs';
 import { deflateRawSync } from 'node:zlib';
 import { describe, expect, it } from 'vitest';
 import { importRateTable } from '../../src/lib/server/sheets/import';
 import { LIMITS } from '../../src/lib/server/sheets/layout';
-import { bytesOf, filledTemplate, zip } from '../fixtures/sheets/build';
+import { WORKBOOK_XML, filledTemplate, ringWorkbook, zip } from '../fixtures/sheets/build';
 import { VESSEL3 } from '../fixtures/sheets/schemes';
 
 function refusal(r: Awaited<ReturnType<typeof importRateTable>>) {
@@ -11,17 +10,6 @@ function refusal(r: Awaited<ReturnType<typeof importRateTable>>) {
 	if (r.ok) throw new Error('accepted');
 	expect(r.errors).toHaveLength(1);
 	return r.errors[0];
-}
-
-const workbookXml = Buffer.from('<?xml version="1.0"?><workbook xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main"><sheets><sheet name="Steps" sheetId="1" r:id="rId1"/></sheets></workbook>');
-
-/** A ring of n states and n steps, as a workbook with a Steps sheet. */
-async function ring(n: number): Promise<Uint8Array> {
-	const wb = new ExcelJS.Workbook();
-	const ws = wb.addWorksheet('Steps');
-	ws.addRow(['step', 'from state', 'to state', 'k forward (1/s)', 'k backward (1/s)', 'displacement (nm)']);
-	for (let i = 0; i < n; i++) ws.addRow([`s${i}`, `X${i}`, `X${(i + 1) % n}`, 10 + (i % 7), 1 + (i % 3), 0.5]);
-	return bytesOf(wb);
 }
 
 // How fast each refusal is: `npm run bench` (scripts/bench-import.ts) prints the table; tests assert what, not how fast.
@@ -34,7 +22,7 @@ describe('files over a limit, mislabelled files and bombs are refused before par
 
 	it('a zip bomb whose directory states its true size is refused from the directory alone', async () => {
 		const parts = [
-			{ name: 'xl/workbook.xml', data: workbookXml },
+			{ name: 'xl/workbook.xml', data: WORKBOOK_XML },
 			{ name: 'xl/worksheets/sheet1.xml', data: Buffer.alloc(0), claimedSize: 900 * 1024 * 1024 }
 		];
 		const result = await importRateTable(zip(parts), 'bomb.xlsx');
@@ -44,7 +32,7 @@ describe('files over a limit, mislabelled files and bombs are refused before par
 	it('a zip bomb that lies about its size stops inflating at the stated size', async () => {
 		const payload = deflateRawSync(Buffer.alloc(48 * 1024 * 1024, 0x20));
 		const bytes = zip([
-			{ name: 'xl/workbook.xml', data: workbookXml },
+			{ name: 'xl/workbook.xml', data: WORKBOOK_XML },
 			{ name: 'xl/worksheets/sheet1.xml', data: payload, store: true, claimedSize: 2048 }
 		]);
 		// the part is stored as already-deflated bytes; mark it deflated so a reader inflates it
@@ -60,7 +48,7 @@ describe('files over a limit, mislabelled files and bombs are refused before par
 	it('an entry packed far beyond any spreadsheet ratio is refused', async () => {
 		const filler = Buffer.alloc(20 * 1024 * 1024, 0x20);
 		const bytes = zip([
-			{ name: 'xl/workbook.xml', data: workbookXml },
+			{ name: 'xl/workbook.xml', data: WORKBOOK_XML },
 			{ name: 'xl/worksheets/sheet1.xml', data: filler }
 		]);
 		const result = await importRateTable(bytes, 'ratio.xlsx');
@@ -71,7 +59,7 @@ describe('files over a limit, mislabelled files and bombs are refused before par
 		const rows = LIMITS.rowsPerSheet + 500;
 		const xml = '<worksheet><sheetData>' + Array.from({ length: rows }, (_, i) => `<row r="${i + 1}"><c r="A${i + 1}"><v>1</v></c></row>`).join('') + '</sheetData></worksheet>';
 		const bytes = zip([
-			{ name: 'xl/workbook.xml', data: workbookXml },
+			{ name: 'xl/workbook.xml', data: WORKBOOK_XML },
 			{ name: 'xl/worksheets/sheet1.xml', data: Buffer.from(xml) }
 		]);
 		const result = await importRateTable(bytes, 'tall.xlsx');
@@ -79,11 +67,11 @@ describe('files over a limit, mislabelled files and bombs are refused before par
 	});
 
 	it(`${LIMITS.steps} steps import; ${LIMITS.steps + 1} are refused`, async () => {
-		const ok = await ring(LIMITS.steps);
+		const ok = await ringWorkbook(LIMITS.steps);
 		const result = await importRateTable(ok, 'ring.xlsx');
 		expect(result.ok).toBe(true);
 		if (result.ok) expect(result.scheme.steps).toHaveLength(LIMITS.steps);
-		const over = await importRateTable(await ring(LIMITS.steps + 1), 'ring.xlsx');
+		const over = await importRateTable(await ringWorkbook(LIMITS.steps + 1), 'ring.xlsx');
 		expect(refusal(over).message).toMatch(/5001 steps; the limit is 5000/);
 	});
 
@@ -98,13 +86,13 @@ describe('files over a limit, mislabelled files and bombs are refused before par
 		['an old .xls (OLE) named .xlsx', () => new Uint8Array([0xd0, 0xcf, 0x11, 0xe0, 0xa1, 0xb1, 0x1a, 0xe1, 0, 0, 0, 0]), 'x.xlsx', /old-style binary workbook/],
 		['a PDF named .xlsx', () => new TextEncoder().encode('%PDF-1.7\n...'), 'x.xlsx', /is a PDF/],
 		['a zip that is no workbook', () => zip([{ name: 'readme.txt', data: Buffer.from('hello') }]), 'x.xlsx', /no xl\/workbook\.xml/],
-		['a workbook named .csv', () => zip([{ name: 'xl/workbook.xml', data: workbookXml }]), 'x.csv', /is a workbook/],
+		['a workbook named .csv', () => zip([{ name: 'xl/workbook.xml', data: WORKBOOK_XML }]), 'x.csv', /is a workbook/],
 		['UTF-16 text named .csv', () => new Uint8Array([0xff, 0xfe, 0x41, 0x00]), 'x.csv', /UTF-16/],
 		['Latin-1 text named .csv', () => new Uint8Array([0x41, 0x2c, 0xb5, 0x4d, 0x0a]), 'x.csv', /not UTF-8/],
 		['binary bytes named .csv', () => new Uint8Array([0x41, 0x00, 0x42]), 'x.csv', /not text/],
 		['an empty file', () => new Uint8Array(0), 'x.xlsx', /empty/],
 		['an unknown ending', () => new Uint8Array([1, 2, 3]), 'x.ods', /\.ods files are not read/],
-		['a truncated workbook', () => zip([{ name: 'xl/workbook.xml', data: workbookXml }]).slice(0, 40), 'x.xlsx', /damaged/]
+		['a truncated workbook', () => zip([{ name: 'xl/workbook.xml', data: WORKBOOK_XML }]).slice(0, 40), 'x.xlsx', /damaged/]
 	])('%s is refused with a message that says what it is', async (_name, make, fileName, message) => {
 		const e = refusal(await importRateTable(make(), fileName));
 		expect(e.message).toMatch(message);

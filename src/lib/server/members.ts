@@ -108,15 +108,17 @@ export async function acceptInvitation(token: string, who: { signedInUserId: str
 	});
 }
 
-async function leadsLeft(labId: string, excludingUserId: string): Promise<number> {
+/** Refuses a change that would leave the lab without a lead. */
+async function keepOneLead(labId: string, leavingUserId: string): Promise<void> {
 	const [{ n }] = await db
 		.select({ n: count() })
 		.from(schema.labMembers)
-		.where(and(eq(schema.labMembers.labId, labId), eq(schema.labMembers.role, 'lead'), ne(schema.labMembers.userId, excludingUserId)));
-	return n;
+		.where(and(eq(schema.labMembers.labId, labId), eq(schema.labMembers.role, 'lead'), ne(schema.labMembers.userId, leavingUserId)));
+	if (n === 0) error(409, { message: 'A lab needs at least one lead. Make someone else lead first.', code: 'last_lead' });
 }
 
-export async function changeRole(access: LabAccess, userId: string, role: LabRole) {
+/** A member of this lab, for the lead to change or remove; 404 otherwise. */
+async function memberToChange(access: LabAccess, userId: string) {
 	requireLead(access);
 	const [member] = await db
 		.select({ role: schema.labMembers.role, name: schema.users.name, email: schema.users.email })
@@ -124,9 +126,13 @@ export async function changeRole(access: LabAccess, userId: string, role: LabRol
 		.innerJoin(schema.users, eq(schema.users.id, schema.labMembers.userId))
 		.where(and(eq(schema.labMembers.labId, access.lab.id), eq(schema.labMembers.userId, userId)));
 	if (!member) error(404, { message: 'No such member in this lab.', code: 'not_found' });
+	return member;
+}
+
+export async function changeRole(access: LabAccess, userId: string, role: LabRole) {
+	const member = await memberToChange(access, userId);
 	if (member.role === role) return;
-	if (member.role === 'lead' && (await leadsLeft(access.lab.id, userId)) === 0)
-		error(409, { message: 'A lab needs at least one lead. Make someone else lead first.', code: 'last_lead' });
+	if (member.role === 'lead') await keepOneLead(access.lab.id, userId);
 	await db.update(schema.labMembers).set({ role }).where(and(eq(schema.labMembers.labId, access.lab.id), eq(schema.labMembers.userId, userId)));
 	await logActivity({
 		labId: access.lab.id,
@@ -138,15 +144,8 @@ export async function changeRole(access: LabAccess, userId: string, role: LabRol
 }
 
 export async function removeMember(access: LabAccess, userId: string) {
-	requireLead(access);
-	const [member] = await db
-		.select({ role: schema.labMembers.role, name: schema.users.name, email: schema.users.email })
-		.from(schema.labMembers)
-		.innerJoin(schema.users, eq(schema.users.id, schema.labMembers.userId))
-		.where(and(eq(schema.labMembers.labId, access.lab.id), eq(schema.labMembers.userId, userId)));
-	if (!member) error(404, { message: 'No such member in this lab.', code: 'not_found' });
-	if (member.role === 'lead' && (await leadsLeft(access.lab.id, userId)) === 0)
-		error(409, { message: 'A lab needs at least one lead. Make someone else lead first.', code: 'last_lead' });
+	const member = await memberToChange(access, userId);
+	if (member.role === 'lead') await keepOneLead(access.lab.id, userId);
 	await db.delete(schema.labMembers).where(and(eq(schema.labMembers.labId, access.lab.id), eq(schema.labMembers.userId, userId)));
 	await logActivity({ labId: access.lab.id, actorId: access.user.id, kind: 'member-removed', summary: `Removed ${member.name ?? member.email} from the lab` });
 }
