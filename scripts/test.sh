@@ -83,6 +83,7 @@ else
   say "vite build failed:"; tail -30 "$OUT/build.log"; tally 0 1
 fi
 
+cleanup  # before the totals, so that they are the last line
 echo
 echo "$passed passed, $failed failed"
 [ "$failed" -eq 0 ] && [ "$passed" -gt 0 ]
