@@ -119,7 +119,12 @@ needs_build() {
 
 build_app() {
   say "building the app (vite build)…"
-  (cd "$ROOT" && npx svelte-kit sync >/dev/null && npx vite build --logLevel error) || die "the build failed (see above)."
+  local log="$ROOT/.data/build.log"
+  mkdir -p "$ROOT/.data"
+  if ! (cd "$ROOT" && npx svelte-kit sync && npx vite build) > "$log" 2>&1; then
+    tail -30 "$log" >&2
+    die "the build failed; the whole log is in $log"
+  fi
   touch "$ROOT/build/.escapement-stamp"
 }
 

@@ -49,6 +49,11 @@ async function seedSchemes(db: Db, labId: string): Promise<void> {
 		await tx.insert(schema.reviewEvents).values({ auditId: signed.id, kind: 'signed', actorId: reviewer.id, note: 'All cycles balance within uncertainty; stall force is plausible.' });
 		await tx.update(schema.audits).set({ status: 'submitted' }).where(eq(schema.audits.id, waiting.id));
 		await tx.insert(schema.reviewEvents).values({ auditId: waiting.id, kind: 'submitted', actorId: modeller.id, note: 'Torque dependence split 0.6/0.4 between the substeps; is that defensible?' });
+		await tx.insert(schema.activityLog).values([
+			{ labId, actorId: modeller.id, kind: 'audit-submitted', summary: `Submitted the audit of "${stepper.scheme.name}" r1 for review`, details: { auditId: signed.id } },
+			{ labId, actorId: reviewer.id, kind: 'audit-signed', summary: `Signed the audit of "${stepper.scheme.name}" r1`, details: { auditId: signed.id, sha256: signed.sha256 } },
+			{ labId, actorId: modeller.id, kind: 'audit-submitted', summary: `Submitted the audit of "${rotary.scheme.name}" r1 for review`, details: { auditId: waiting.id } }
+		]);
 	});
 }
 
