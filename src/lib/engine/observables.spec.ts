@@ -115,6 +115,17 @@ describe('stall force and efficiency of tightly coupled motors', () => {
 		expect(() => stallForce(PACER_STEPPER, { bracketPN: [0, 1] })).toThrow(/does not change sign/);
 	});
 
+	it('does not take the load where an irreversible motor’s velocity underflows for a stall (regression: 32 pN reported)', () => {
+		// With a zero back rate the motor never runs backwards: V(F) > 0 decays towards 0 and underflows [der].
+		const noReturn = { ...PACER_STEPPER, steps: PACER_STEPPER.steps.map((s, i) => (i === 0 ? { ...s, kBackward: 0 } : s)) };
+		expect(velocityAt(noReturn, 5)).toBeGreaterThan(0);
+		expect(() => stallForce(noReturn)).toThrow(/without reversing|no stall force/);
+		// The reversible motor keeps a true stall, where V changes sign.
+		const F = stallForce(PACER_STEPPER);
+		expect(velocityAt(PACER_STEPPER, F - 0.5)).toBeGreaterThan(0);
+		expect(velocityAt(PACER_STEPPER, F + 0.5)).toBeLessThan(0);
+	});
+
 	it('reports null efficiency without load and null randomness without a step size', () => {
 		const o = observables({ ...PACER_STEPPER, stepSizeNm: null });
 		expect(o.efficiency).toBeNull();

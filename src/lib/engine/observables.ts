@@ -134,9 +134,28 @@ export const STALL_DEFAULTS = {
 	maxIterations: 200
 };
 
-/** The load (pN) at which V(F) = 0, by Brent's method on a bracket with a sign change. */
+/** Relative size below which a velocity is rounding noise against the unloaded one. */
+const STALL_NOISE = 1e-12;
+
+/**
+ * The load (pN) at which V(F) = 0, by Brent's method on a bracket with a sign change. A scheme with a zero rate on
+ * every productive path can never run backwards: its velocity only decays towards zero under load and underflows
+ * to 0 (or to noise of either sign) at some large load. That is no stall, so the root is accepted only when the
+ * velocity just beyond it runs the other way by more than rounding noise.
+ */
 export function stallForce(scheme: Scheme, options: Partial<typeof STALL_DEFAULTS> = {}): number {
-	const o = { ...STALL_DEFAULTS, ...options };
+	const root = bracketedStall(scheme, { ...STALL_DEFAULTS, ...options });
+	const unloaded = velocityAt(scheme, 0);
+	const beyond = velocityAt(scheme, root + Math.sign(root || 1) * Math.max(0.5, 0.05 * Math.abs(root)));
+	if (!(Math.sign(beyond) === -Math.sign(unloaded) && Math.abs(beyond) > STALL_NOISE * Math.abs(unloaded)))
+		throw new EngineError(
+			'observables',
+			`no stall force: the velocity decays to zero near ${root.toPrecision(4)} pN without reversing (an irreversible step: a zero rate on the way back)`
+		);
+	return root;
+}
+
+function bracketedStall(scheme: Scheme, o: typeof STALL_DEFAULTS): number {
 	const V = (F: number) => velocityAt(scheme, F);
 	let a: number;
 	let b: number;

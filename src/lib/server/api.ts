@@ -5,6 +5,7 @@
 import { error, isHttpError, json, type RequestEvent } from '@sveltejs/kit';
 import { z, ZodError } from 'zod';
 import { SchemeInputError } from './schemes';
+import { EngineError } from '../engine';
 import { requireLab, requireUser, type Capability, type LabAccess } from './access';
 
 export interface ApiErrorBody {
@@ -29,6 +30,8 @@ export function apiRoute<E extends RequestEvent>(handler: (event: E) => Promise<
 			if (err instanceof ZodError)
 				return apiError(400, 'invalid', 'The request body is not valid; see details for each field.', err.issues.map((i) => ({ path: i.path.join('.'), message: i.message })));
 			if (err instanceof SchemeInputError) return apiError(422, 'invalid_scheme', err.message, err.issues);
+			// The engine refuses schemes it cannot audit as entered (e.g. zero rates that split it into closed classes).
+			if (err instanceof EngineError) return apiError(422, 'engine', err.message);
 			if (err instanceof Response) throw err;
 			console.error(`[escapement] API ${event.request.method} ${event.url.pathname}:`, err);
 			return apiError(500, 'internal', 'Something went wrong on our side. The error was logged.');

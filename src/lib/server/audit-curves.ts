@@ -7,27 +7,15 @@ import { EngineError, spanningTreesInto, stallForce, velocityAt, withConditions,
 import { spacedPoints } from '../components/plot-scale';
 
 export const SWEEP_MAX_POINTS = 200;
-/** Relative size below which a reversed velocity beyond a stall is taken for rounding noise. */
-const STALL_NOISE = 1e-12;
 /** Largest scheme whose spanning trees are drawn (beyond, their number explodes and the pictures say nothing). */
 export const TREE_MAX_STATES = 8;
 /** Pictures sent per state; the count and Σ always cover all trees. */
 export const TREE_PICTURE_LIMIT = 250;
 
-/**
- * The stall force at the stored conditions, or null when the velocity does not change sign within ±1000 pN.
- * A scheme with an irreversible step can never run backwards: its velocity only decays towards zero under load, and
- * once it underflows to 0 (or to rounding noise of either sign) the root search would report that load as a stall.
- * So just beyond the root the velocity must run the other way, and by more than rounding noise, or there is no stall.
- */
+/** The stall force at the stored conditions, or null when the engine finds none (no reversal within ±1000 pN). */
 export function stallForceOrNull(scheme: Scheme): number | null {
 	try {
-		const f = stallForce(scheme);
-		if (!Number.isFinite(f)) return null;
-		const unloaded = velocityAt(scheme, 0);
-		const beyond = velocityAt(scheme, f + Math.sign(f || 1) * Math.max(0.5, 0.05 * Math.abs(f)));
-		const reversed = Math.sign(beyond) === -Math.sign(unloaded) && Math.abs(beyond) > STALL_NOISE * Math.abs(unloaded);
-		return reversed ? f : null;
+		return stallForce(scheme);
 	} catch (err) {
 		if (err instanceof EngineError) return null;
 		throw err;
