@@ -27,6 +27,8 @@ interface Row {
 	path: (c: Ctx) => string;
 	body?: (who: Who, c: Ctx) => { json?: unknown; form?: FormData };
 	prepare?: (who: Who, c: Ctx) => Promise<string>;
+	/** Tells apart two rows of the same route (e.g. another body form). */
+	variant?: string;
 	expect: Record<Who, number>;
 }
 
@@ -110,6 +112,14 @@ const ROWS: Row[] = [
 		body: () => ({ json: { conditions: { temperatureK: 300 } } }),
 		expect: members(200)
 	},
+	{
+		route: '/api/v1/labs/[lab]/schemes/[scheme]/preview',
+		method: 'POST',
+		variant: 'edited scheme document',
+		path: (c) => `${S(c)}/preview`,
+		body: () => ({ json: { scheme: triangleScheme('Triangle', 3), conditions: { forcePN: 0.5 } } }),
+		expect: members(200)
+	},
 	{ route: '/api/v1/labs/[lab]/audits/[audit]', method: 'GET', path: AU, expect: members(200) },
 	{ route: '/api/v1/labs/[lab]/audits/[audit]/verify', method: 'GET', path: (c) => `${AU(c)}/verify`, expect: members(200) },
 	{ route: '/api/v1/labs/[lab]/audits/[audit]/sweep', method: 'GET', path: (c) => `${AU(c)}/sweep?variable=force&from=-5&to=5&points=3`, expect: members(200) },
@@ -179,7 +189,7 @@ describe('the access table', () => {
 });
 
 for (const row of ROWS) {
-	describe(`${row.method} ${row.route}${row.body?.('lead', {} as Ctx).form ? ' (rate-table upload)' : ''}`, () => {
+	describe(`${row.method} ${row.route}${row.variant ? ` (${row.variant})` : row.body?.('lead', {} as Ctx).form ? ' (rate-table upload)' : ''}`, () => {
 		for (const who of WHO) {
 			it(`answers ${row.expect[who]} to ${who === 'outsider' ? 'a lead of another lab' : who === 'anonymous' ? 'a request without a token' : `the ${who}`}`, async () => {
 				const c = { ...ctx };
