@@ -32,9 +32,11 @@ function authConfig(): SvelteKitAuthConfig {
 	secret: config.authSecret,
 	trustHost: true,
 	logger: {
-		// A wrong password is an everyday event, not a server error.
+		// A wrong password, an unknown address or a used link are everyday events, not server errors.
 		error(err) {
-			if ((err as { type?: string }).type !== 'CredentialsSignin') console.error('[escapement] auth:', err);
+			const type = (err as { type?: string }).type ?? '';
+			if (['CredentialsSignin', 'AccessDenied', 'Verification'].includes(type)) console.warn(`[escapement] auth: ${type}`);
+			else console.error('[escapement] auth:', err);
 		}
 	},
 	session: { strategy: 'jwt', maxAge: SESSION_MAX_AGE_S },

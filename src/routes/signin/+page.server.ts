@@ -28,9 +28,13 @@ export const actions: Actions = {
 			await signIn(event);
 		} catch (err) {
 			if (isRedirect(err)) throw err;
-			// Auth.js throws on a wrong password; answer on the page without saying which part was wrong.
+			// Auth.js throws on a wrong password or an unknown address for a link; answer on the page, without saying
+			// which part of the credentials was wrong.
 			const type = (err as { type?: string }).type;
-			if (type === 'CredentialsSignin') return fail(400, { message: MESSAGES.CredentialsSignin, email: String(form.get('email') ?? '') });
+			if (type && type in MESSAGES) {
+				const mode = form.get('providerId') === 'email-link' ? ('link' as const) : ('password' as const);
+				return fail(400, { message: MESSAGES[type], email: String(form.get('email') ?? ''), mode });
+			}
 			throw err;
 		}
 	}
