@@ -10,8 +10,8 @@ import { db, schema } from './db';
 import { can, type LabAccess } from './access';
 import { logActivity } from './activity';
 import { auditHash } from './canonical';
-import { getRevision, getScheme, isUuid } from './schemes';
-import { auditScheme, withConditions, ENGINE_VERSION, type Audit, type Scheme, type Verdict } from '../engine';
+import { getRevision, getScheme, isUuid, saveRevision } from './schemes';
+import { applyCorrection, auditScheme, withConditions, ENGINE_VERSION, type Audit, type Scheme, type Verdict } from '../engine';
 
 export const VERDICT_ORDER: readonly Verdict[] = ['violation', 'irreversible', 'unbalanced', 'consistent'];
 
@@ -154,4 +154,23 @@ export function provenanceOf(audit: StoredAudit) {
 		createdBy: audit.createdByName ?? audit.createdByEmail,
 		auditSha256: audit.sha256
 	};
+}
+
+/**
+ * Adopts an audit's correction proposal: the revision it audited, with the proposed rates, saved as a new revision
+ * of the scheme (the audited revision and the audit itself stay as they were). Returns the new revision.
+ */
+export async function adoptCorrection(access: LabAccess, auditId: string) {
+	if (!can(access.role, 'model')) error(403, { message: 'Only modellers and lab leads change schemes.', code: 'forbidden' });
+	const audit = await getAudit(access.lab.id, auditId);
+	const correction = audit.results.correction;
+	if (!correction || correction.changes.length === 0)
+		error(409, { message: 'This audit proposes no correction: no cycle violates consistency.', code: 'no_correction' });
+	const audited = await getRevision(access.lab.id, audit.schemeId, audit.revision);
+	const corrected = applyCorrection(audited.scheme, correction);
+	const list = correction.changes.map((c) => `${c.stepId} ${c.rate === 'kForward' ? 'k+' : 'k−'} ×${c.factor.toPrecision(3)}`).join(', ');
+	return saveRevision(access, audit.schemeId, {
+		scheme: corrected,
+		note: `Smallest consistent correction proposed by the audit of revision ${audit.revision} (${list}). A proposal, not a measurement: check the changed rates against their sources.`
+	});
 }
