@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { arcGeometry, fluxWidth, FLUX_WIDTH, layoutScheme, parallelOffsets, type LayoutInput } from './diagram-layout';
+import { arcGeometry, ellipsis, fluxWidth, FLUX_WIDTH, layoutScheme, NODE_RADIUS, parallelOffsets, placeStateLabels, placeStepLabels, ringOrder, type Box, type LayoutInput } from './diagram-layout';
+import { compositeWithViolation, stepperWithFutileBranch, threeSiteRotary } from '$lib/server/demo/schemes';
 
 /** An invented six-state motor with a futile branch and two pairs of parallel steps (one pair written in opposite directions). */
 const MOTOR: LayoutInput = {
@@ -124,5 +125,88 @@ describe('fluxWidth', () => {
 		// 1e-1 lies halfway between 1e-3 and 10 in decades (2 of 4).
 		expect(w[1]).toBeCloseTo((FLUX_WIDTH.min + FLUX_WIDTH.max) / 2, 12);
 		expect(fluxWidth(0, fluxes)).toBe(0);
+	});
+});
+
+const DEMOS = [stepperWithFutileBranch(), threeSiteRotary(), compositeWithViolation()];
+
+/** Distance from a point to the nearest point of a box (0 inside), written out here rather than taken from the module. */
+function distanceToBox(p: { x: number; y: number }, b: Box): number {
+	const dx = Math.max(b.x - p.x, 0, p.x - (b.x + b.width));
+	const dy = Math.max(b.y - p.y, 0, p.y - (b.y + b.height));
+	return Math.hypot(dx, dy);
+}
+const overlap = (a: Box, b: Box) => a.x < b.x + b.width && b.x < a.x + a.width && a.y < b.y + b.height && b.y < a.y + a.height;
+
+/** Whether segments p1p2 and p3p4 cross at a point inside both (orientation test). */
+function segmentsCross(p1: { x: number; y: number }, p2: { x: number; y: number }, p3: { x: number; y: number }, p4: { x: number; y: number }): boolean {
+	const o = (a: typeof p1, b: typeof p1, c: typeof p1) => Math.sign((b.x - a.x) * (c.y - a.y) - (b.y - a.y) * (c.x - a.x));
+	return o(p1, p2, p3) * o(p1, p2, p4) < 0 && o(p3, p4, p1) * o(p3, p4, p2) < 0;
+}
+
+function labelled(scheme: (typeof DEMOS)[number]) {
+	const layout = layoutScheme(scheme);
+	const at = new Map(layout.nodes.map((n) => [n.id, n]));
+	const states = placeStateLabels(layout.nodes, new Map(scheme.states.map((s) => [s.id, s.label ?? ''])));
+	const steps = placeStepLabels(
+		layout.edges.map((e) => ({ stepId: e.stepId, a: at.get(e.from)!, b: at.get(e.to)!, offset: e.offset, width: 4 })),
+		layout.nodes,
+		{ avoid: states.map((l) => l.box) }
+	);
+	return { layout, at, states, steps };
+}
+
+describe('label placement on the demo schemes', () => {
+	for (const scheme of DEMOS) {
+		it(`keeps every step id off every state circle and off the other ids: ${scheme.name}`, () => {
+			const { layout, steps } = labelled(scheme);
+			expect(steps).toHaveLength(scheme.steps.length);
+			for (const l of steps) {
+				// The box is as wide as its text at the drawing's font (monospace, 11 px: at least 6 px a character).
+				expect(l.box.width).toBeGreaterThanOrEqual(Array.from(l.text).length * 6);
+				for (const n of layout.nodes) expect(distanceToBox(n, l.box), `step "${l.stepId}" over state ${n.id}`).toBeGreaterThanOrEqual(NODE_RADIUS);
+			}
+			for (let i = 0; i < steps.length; i++)
+				for (let j = i + 1; j < steps.length; j++) expect(overlap(steps[i].box, steps[j].box), `"${steps[i].stepId}" on "${steps[j].stepId}"`).toBe(false);
+		});
+
+		it(`writes state labels off the circles, outside the middle, without crossing steps between other states: ${scheme.name}`, () => {
+			const { layout, states, at } = labelled(scheme);
+			const cx = layout.nodes.reduce((a, n) => a + n.x, 0) / layout.nodes.length;
+			const cy = layout.nodes.reduce((a, n) => a + n.y, 0) / layout.nodes.length;
+			for (const l of states) {
+				const n = at.get(l.id)!;
+				for (const m of layout.nodes) expect(distanceToBox(m, l.box), `label of ${l.id} over state ${m.id}`).toBeGreaterThanOrEqual(NODE_RADIUS);
+				// The label's centre lies farther from the middle than its state.
+				const lc = { x: l.box.x + l.box.width / 2, y: l.box.y + l.box.height / 2 };
+				expect(Math.hypot(lc.x - cx, lc.y - cy)).toBeGreaterThan(Math.hypot(n.x - cx, n.y - cy));
+			}
+		});
+
+		it(`starts from, and keeps, a drawing whose straight steps do not cross: ${scheme.name}`, () => {
+			const { at } = labelled(scheme);
+			let crossings = 0;
+			for (const s of scheme.steps)
+				for (const t of scheme.steps) {
+					if (s.id >= t.id || [s.from, s.to].some((v) => v === t.from || v === t.to)) continue;
+					if (segmentsCross(at.get(s.from)!, at.get(s.to)!, at.get(t.from)!, at.get(t.to)!)) crossings++;
+				}
+			expect(crossings).toBe(0);
+		});
+	}
+
+	it('orders the ring along the longest cycle, slotting a branch in beside the steps it bypasses', () => {
+		const order = ringOrder(stepperWithFutileBranch());
+		expect(order).toHaveLength(6);
+		const i = (id: string) => order.indexOf(id);
+		const adjacentOnRing = (p: string, q: string) => [1, order.length - 1].includes(Math.abs(i(p) - i(q)));
+		// Main cycle E → T → S → DP → D → E stays in order round the ring; X (the futile branch T → X → E) sits between T and E.
+		for (const [p, q] of [['T', 'S'], ['S', 'DP'], ['DP', 'D'], ['X', 'T'], ['X', 'E']]) expect(adjacentOnRing(p, q), `${p}–${q}`).toBe(true);
+	});
+
+	it('shortens long labels with an ellipsis and leaves short ones alone', () => {
+		expect(ellipsis('ATP hydrolysed before docking (futile)', 24)).toBe('ATP hydrolysed before d…');
+		expect(Array.from(ellipsis('ATP hydrolysed before docking (futile)', 24))).toHaveLength(24);
+		expect(ellipsis('front head ATP', 24)).toBe('front head ATP');
 	});
 });
