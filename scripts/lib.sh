@@ -53,7 +53,8 @@ pg_data_base() {
 
 pg_run() {
   # Run a PostgreSQL binary as the postgres user when we are root (root may not run the server).
-  if as_root; then runuser -u postgres -- "$@"; else "$@"; fi
+  # From / : the postgres user may not be allowed into the current folder.
+  if as_root; then (cd / && runuser -u postgres -- "$@"); else "$@"; fi
 }
 
 port_in_use() { (exec 3<>"/dev/tcp/127.0.0.1/$1") 2>/dev/null; }
