@@ -4,6 +4,8 @@ import { can, requireLab, requireUser, requireUserPage } from '$lib/server/acces
 import { getAudit, verifyAudit } from '$lib/server/audits';
 import { returnAudit, signAudit, submitForReview } from '$lib/server/reviews';
 import { TREE_MAX_STATES, speciesOf, stallForceOrNull } from '$lib/server/audit-curves';
+import { cycleTableOf } from '$lib/server/audit-cycles';
+import { auditSummary, cyclePage, CYCLE_INLINE_MAX, CYCLE_PAGE_SIZE, CYCLE_SORT_DEFAULT } from '$lib/audit-cycles';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async ({ locals, params, url }) => {
@@ -12,6 +14,11 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 	const audit = await getAudit(access.lab.id, params.audit);
 	const isAuthor = audit.createdBy === user.id;
 	const open = audit.status === 'draft' || audit.status === 'returned';
+	// Only the summary and one page of cycles go to the browser; the table asks the cycles route for more.
+	const table = cycleTableOf(audit);
+	const inline = table.rows.length <= CYCLE_INLINE_MAX;
+	const chosen = Number(url.searchParams.get('cycle'));
+	const highlighted = Number.isInteger(chosen) && chosen >= 1 ? (table.rows[chosen - 1] ?? null) : null;
 	return {
 		audit: {
 			id: audit.id,
@@ -31,7 +38,14 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 				: null,
 			events: audit.events,
 			inputs: audit.inputs,
-			results: audit.results
+			results: auditSummary(audit.results)
+		},
+		cycles: {
+			inline: inline ? table.rows : null,
+			first: inline ? null : cyclePage(table.rows, { ...CYCLE_SORT_DEFAULT, page: 1, pageSize: CYCLE_PAGE_SIZE, cycle: highlighted?.index }),
+			worst: table.worst,
+			highlighted,
+			violationCover: table.violationCover
 		},
 		stallForcePN: stallForceOrNull(audit.inputs),
 		species: speciesOf(audit.inputs),
