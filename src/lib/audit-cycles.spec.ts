@@ -2,7 +2,6 @@ import { describe, expect, it } from 'vitest';
 import { auditScheme, PACER_STEPPER_MISFIT, type AuditCycle, type Verdict } from '$lib/engine';
 import { completeScheme } from '$lib/engine/random-scheme';
 import {
-	auditSummary,
 	cyclePage,
 	cycleRows,
 	cycleVerdictCounts,
@@ -173,11 +172,5 @@ describe('what the audit page sends instead of every cycle', () => {
 		expect(cover.length).toBeLessThanOrEqual(onViolations.size);
 		expect(cover.length).toBeLessThan(15);
 		expect(violationCover(auditScheme(completeScheme(5)).cycles)).toEqual([]);
-	});
-	it('leaves out only the per-cycle lists', () => {
-		const summary = auditSummary(audit);
-		expect(Object.keys(summary).sort()).toEqual(Object.keys(audit).filter((k) => k !== 'cycles' && k !== 'cycleAffinitiesKT').sort());
-		expect(summary.cycleCount).toBe(37);
-		expect(JSON.stringify(summary).length).toBeLessThan(JSON.stringify(audit).length / 4);
 	});
 });

@@ -35,14 +35,8 @@ export const CYCLE_PAGE_MAX = 200;
 /** Audits with at most this many listed cycles send them all with the page; larger ones are paged by the route. */
 export const CYCLE_INLINE_MAX = 200;
 
-/** An audit without its per-cycle lists: what the audit page receives whatever the number of cycles. */
+/** An audit without its per-cycle lists (getAuditSummary): what the audit page receives whatever the number of cycles. */
 export type AuditSummary = Omit<Audit, 'cycles' | 'cycleAffinitiesKT'>;
-
-export function auditSummary(results: Audit): AuditSummary {
-	// eslint-disable-next-line @typescript-eslint/no-unused-vars
-	const { cycles, cycleAffinitiesKT, ...summary } = results;
-	return summary;
-}
 
 export function zScore(cycle: Pick<AuditCycle, 'deviationLog10' | 'sigmaLog10'>): number | null {
 	const { deviationLog10: d, sigmaLog10: s } = cycle;

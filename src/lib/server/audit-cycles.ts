@@ -21,8 +21,8 @@ export interface AuditCycleTable {
 const KEPT = 3;
 const kept = new Map<string, { labId: string; sha256: string; table: AuditCycleTable }>();
 
-/** The table rows of an audit already read with getAudit (remembered when the audit is large). */
-export function cycleTableOf(audit: StoredAudit): AuditCycleTable {
+/** The table rows of an audit read with getAudit (remembered when the audit is large). */
+function cycleTableOf(audit: StoredAudit): AuditCycleTable {
 	const hit = kept.get(audit.id);
 	if (hit && hit.labId === audit.labId && hit.sha256 === audit.sha256) return hit.table;
 	const rows = cycleRows(audit.results.cycles, audit.results.cycleAffinitiesKT);
@@ -35,14 +35,19 @@ export function cycleTableOf(audit: StoredAudit): AuditCycleTable {
 	return table;
 }
 
-/** The table rows of an audit of this lab (404 when the lab has no such audit), from memory when possible. */
-export async function auditCycleTable(labId: string, auditId: string): Promise<AuditCycleTable> {
+/**
+ * The table rows of an audit of this lab (404 when the lab has no such audit), from memory when possible. A caller
+ * that has just read the audit's hash (getAuditSummary) passes it and saves the check.
+ */
+export async function auditCycleTable(labId: string, auditId: string, sha256?: string): Promise<AuditCycleTable> {
 	const hit = kept.get(auditId);
 	if (hit && hit.labId === labId) {
-		const [row] = await db
-			.select({ sha256: schema.audits.sha256 })
-			.from(schema.audits)
-			.where(and(eq(schema.audits.id, auditId), eq(schema.audits.labId, labId)));
+		const [row] = sha256
+			? [{ sha256 }]
+			: await db
+					.select({ sha256: schema.audits.sha256 })
+					.from(schema.audits)
+					.where(and(eq(schema.audits.id, auditId), eq(schema.audits.labId, labId)));
 		if (row?.sha256 === hit.sha256) {
 			kept.delete(auditId);
 			kept.set(auditId, hit);

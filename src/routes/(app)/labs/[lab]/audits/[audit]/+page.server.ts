@@ -1,21 +1,22 @@
 import { fail, isHttpError } from '@sveltejs/kit';
 import { z } from 'zod';
 import { can, requireLab, requireUser, requireUserPage } from '$lib/server/access';
-import { getAudit, verifyAudit } from '$lib/server/audits';
+import { getAudit, getAuditSummary, verifyAudit } from '$lib/server/audits';
 import { returnAudit, signAudit, submitForReview } from '$lib/server/reviews';
 import { TREE_MAX_STATES, speciesOf, stallForceOrNull } from '$lib/server/audit-curves';
-import { cycleTableOf } from '$lib/server/audit-cycles';
-import { auditSummary, cyclePage, CYCLE_INLINE_MAX, CYCLE_PAGE_SIZE, CYCLE_SORT_DEFAULT } from '$lib/audit-cycles';
+import { auditCycleTable } from '$lib/server/audit-cycles';
+import { cyclePage, CYCLE_INLINE_MAX, CYCLE_PAGE_SIZE, CYCLE_SORT_DEFAULT } from '$lib/audit-cycles';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async ({ locals, params, url }) => {
 	const user = requireUserPage(locals, url);
 	const access = await requireLab(user, params.lab, 'read');
-	const audit = await getAudit(access.lab.id, params.audit);
+	// the summary leaves the cycles in the database; their rows come from memory or one read of the whole audit
+	const audit = await getAuditSummary(access.lab.id, params.audit);
 	const isAuthor = audit.createdBy === user.id;
 	const open = audit.status === 'draft' || audit.status === 'returned';
 	// Only the summary and one page of cycles go to the browser; the table asks the cycles route for more.
-	const table = cycleTableOf(audit);
+	const table = await auditCycleTable(access.lab.id, audit.id, audit.sha256);
 	const inline = table.rows.length <= CYCLE_INLINE_MAX;
 	const chosen = Number(url.searchParams.get('cycle'));
 	const highlighted = Number.isInteger(chosen) && chosen >= 1 ? (table.rows[chosen - 1] ?? null) : null;
@@ -38,7 +39,7 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 				: null,
 			events: audit.events,
 			inputs: audit.inputs,
-			results: auditSummary(audit.results)
+			results: audit.results
 		},
 		cycles: {
 			inline: inline ? table.rows : null,
