@@ -124,6 +124,7 @@ const ROWS: Row[] = [
 	{ route: '/api/v1/labs/[lab]/audits/[audit]/verify', method: 'GET', path: (c) => `${AU(c)}/verify`, expect: members(200) },
 	{ route: '/api/v1/labs/[lab]/audits/[audit]/sweep', method: 'GET', path: (c) => `${AU(c)}/sweep?variable=force&from=-5&to=5&points=3`, expect: members(200) },
 	{ route: '/api/v1/labs/[lab]/audits/[audit]/trees', method: 'GET', path: (c) => `${AU(c)}/trees?state=E1`, expect: members(200) },
+	{ route: '/api/v1/labs/[lab]/audits/[audit]/cycles', method: 'GET', path: (c) => `${AU(c)}/cycles?verdict=all&sort=z&dir=desc&page=1&pageSize=10`, expect: members(200) },
 	{ route: '/api/v1/labs/[lab]/audits/[audit]/export/xlsx', method: 'GET', path: (c) => `${AU(c)}/export/xlsx`, expect: members(200) },
 	{ route: '/api/v1/labs/[lab]/audits/[audit]/export/pdf', method: 'GET', path: (c) => `${AU(c)}/export/pdf`, expect: members(200) },
 	{ route: '/api/v1/labs/[lab]/audits/[audit]/export/json', method: 'GET', path: (c) => `${AU(c)}/export/json`, expect: members(200) },
