@@ -107,7 +107,7 @@ describe('GET /api/v1/labs/[lab]/audits/[audit]/cycles', () => {
 			if (i > 0) expect(rows[i].zScore).toBeLessThanOrEqual(rows[i - 1].zScore);
 		}
 		// ten times too fast a forward rate: every violating cycle is off by one in log10, one way or the other
-		expect(rows.every((r) => Math.abs(Math.abs(r.cycle.deviationLog10) - 1) < 1e-9)).toBe(true);
+		expect(rows.every((r: Json) => Math.abs(Math.abs(r.cycle.deviationLog10) - 1) < 1e-9)).toBe(true);
 		const byLength = (await page('sort=length&pageSize=5')).rows;
 		expect(byLength.map((r: Json) => r.cycle.steps.length)).toEqual([3, 3, 3, 3, 3]);
 		expect((await page('sort=length&dir=desc&pageSize=5')).rows.map((r: Json) => r.cycle.steps.length)).toEqual([8, 8, 8, 8, 8]);
