@@ -101,4 +101,17 @@ describe('a modeller audits an uploaded rate table', () => {
 		book.getWorksheet('Summary')!.eachRow((row) => row.eachCell((cell) => (mentionsScheme ||= String(cell.value).includes(scheme.name))));
 		expect(mentionsScheme).toBe(true);
 	});
+
+	it('adopts the proposed correction as a new revision, whose audit has no violation', async () => {
+		await page.goto(auditUrl);
+		await page.getByRole('button', { name: 'Save these rates as a new revision' }).click();
+		await page.waitForURL(/\/schemes\/[0-9a-f-]{36}\?saved=2$/);
+		expect(await page.getByText(/Revision 2 of 2/).first().isVisible()).toBe(true);
+		await page.getByRole('button', { name: /Run audit/ }).click();
+		await page.waitForURL(/\/audits\/[0-9a-f-]{36}$/);
+		const violations = page.getByRole('group', { name: 'Filter cycles by verdict' }).getByRole('button', { name: /violation/ });
+		expect(await violations.textContent()).toMatch(/\b0\s*violation/);
+		expect(await violations.isDisabled()).toBe(true);
+		await shot(page, 'audit-after-correction');
+	});
 });

@@ -153,6 +153,7 @@ const ROWS: Row[] = [
 		body: () => ({ json: { comment: 'step c needs a source for its backward rate' } }),
 		expect: { lead: 403, modeller: 403, reviewer: 200, reader: 403, outsider: 404, anonymous: 401 }
 	},
+	{ route: '/api/v1/labs/[lab]/audits/[audit]/adopt-correction', method: 'POST', path: (c) => `${AU(c)}/adopt-correction`, expect: modellers(201) },
 	{ route: '/api/v1/labs/[lab]/reviews', method: 'GET', path: (c) => `${A(c)}/reviews`, expect: members(200) },
 	{ route: '/api/v1/labs/[lab]/activity', method: 'GET', path: (c) => `${A(c)}/activity?page=1&pageSize=10`, expect: { lead: 200, modeller: 403, reviewer: 403, reader: 403, outsider: 404, anonymous: 401 } },
 	{ route: '/api/v1/template', method: 'GET', path: () => '/api/v1/template', expect: { ...members(200), outsider: 200 } }

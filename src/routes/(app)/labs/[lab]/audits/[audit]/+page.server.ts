@@ -1,7 +1,7 @@
-import { fail, isHttpError } from '@sveltejs/kit';
+import { fail, isHttpError, redirect } from '@sveltejs/kit';
 import { z } from 'zod';
 import { can, requireLab, requireUser, requireUserPage } from '$lib/server/access';
-import { getAudit, getAuditSummary, verifyAudit } from '$lib/server/audits';
+import { getAudit, getAuditSummary, verifyAudit, adoptCorrection } from '$lib/server/audits';
 import { returnAudit, signAudit, submitForReview } from '$lib/server/reviews';
 import { TREE_MAX_STATES, speciesOf, stallForceOrNull } from '$lib/server/audit-curves';
 import { auditCycleTable } from '$lib/server/audit-cycles';
@@ -96,6 +96,18 @@ export const actions: Actions = {
 		if (!comment.success) return fail(400, { action: 'return', message: comment.error.issues[0].message });
 		if (!comment.data) return fail(400, { action: 'return', message: 'Say what should change: a returned audit needs a comment.' });
 		return attempt('return', async () => returnAudit(await requireLab(user, params.lab, 'review'), params.audit, comment.data));
+	},
+	adopt: async ({ locals, params }) => {
+		const user = requireUser(locals);
+		let number: number;
+		try {
+			({ revision: { number } } = await adoptCorrection(await requireLab(user, params.lab, 'model'), params.audit));
+		} catch (err) {
+			if (isHttpError(err)) return fail(err.status, { action: 'adopt', message: err.body.message });
+			throw err;
+		}
+		const { schemeId } = await getAudit((await requireLab(user, params.lab, 'read')).lab.id, params.audit);
+		redirect(303, `/labs/${params.lab}/schemes/${schemeId}?saved=${number}`);
 	},
 	verify: async ({ locals, params }) => {
 		const user = requireUser(locals);
