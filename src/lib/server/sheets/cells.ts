@@ -86,6 +86,22 @@ function describeProblem(cell: RawCell, what: string): string | null {
 	}
 }
 
+/** The cell's value, null for an empty cell, undefined after the cell's problem was recorded as an error. */
+function readableValue(
+	cell: RawCell | undefined,
+	at: CellRef,
+	issues: IssueList,
+	what: string
+): RawCell['value'] | null | undefined {
+	if (!cell || cell.value.kind === 'empty') return null;
+	const problem = describeProblem(cell, what);
+	if (problem) {
+		issues.error(at, problem);
+		return undefined;
+	}
+	return cell.value;
+}
+
 /** A number, null for an empty cell, undefined when an error was recorded. */
 export function readNumber(
 	cell: RawCell | undefined,
@@ -93,13 +109,8 @@ export function readNumber(
 	issues: IssueList,
 	what: string
 ): number | null | undefined {
-	if (!cell || cell.value.kind === 'empty') return null;
-	const problem = describeProblem(cell, what);
-	if (problem) {
-		issues.error(at, problem);
-		return undefined;
-	}
-	const v = cell.value;
+	const v = readableValue(cell, at, issues, what);
+	if (!v) return v;
 	if (v.kind === 'number') {
 		if (!Number.isFinite(v.value)) {
 			issues.error(at, `${what}: the value is not a finite number. Type a number.`);
@@ -127,13 +138,8 @@ export function readText(
 	issues: IssueList,
 	what: string
 ): string | null | undefined {
-	if (!cell || cell.value.kind === 'empty') return null;
-	const problem = describeProblem(cell, what);
-	if (problem) {
-		issues.error(at, problem);
-		return undefined;
-	}
-	const v = cell.value;
+	const v = readableValue(cell, at, issues, what);
+	if (!v) return v;
 	if (v.kind === 'number') return String(v.value);
 	if (v.kind === 'text') {
 		const t = v.text.replace(/[\u00a0\u2007\u2009\u202f]/g, ' ').replace(/\s+/g, ' ').trim();
