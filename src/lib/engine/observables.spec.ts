@@ -2,37 +2,15 @@ import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { PACER_STEPPER } from './examples';
 import { observables, stallForce, velocityAt } from './observables';
-import { SCHEME_FORMAT, type Scheme, type SchemeStep } from './scheme';
+import type { Scheme, SchemeStep } from './scheme';
 import { kJPerMolToPNnm, molarThermalEnergyKJPerMol, thermalEnergyPNnm } from './units';
-import { mulberry32 } from './random-scheme';
+import { mulberry32, plainScheme, plainStep } from './random-scheme';
 
 const twoState = JSON.parse(readFileSync(new URL('../../../reference/two-state-periodic.json', import.meta.url), 'utf8'));
 const tight = JSON.parse(readFileSync(new URL('../../../reference/tight-coupling.json', import.meta.url), 'utf8'));
 
-const baseStep = (id: string, from: string, to: string, kForward: number, kBackward: number, displacementNm: number): SchemeStep => ({
-	id,
-	from,
-	to,
-	kForward,
-	kBackward,
-	binds: [],
-	releases: [],
-	displacementNm,
-	loadFraction: 0.5,
-	relUncertaintyForward: null,
-	relUncertaintyBackward: null
-});
-
 const scheme = (states: string[], steps: SchemeStep[], extra: Partial<Scheme> = {}): Scheme => ({
-	format: SCHEME_FORMAT,
-	name: 'check',
-	temperatureK: 298.15,
-	forcePN: 0,
-	stepSizeNm: null,
-	concentrationsM: {},
-	reactions: [],
-	states: states.map((id) => ({ id })),
-	steps,
+	...plainScheme('check', states, steps),
 	...extra
 });
 
@@ -41,7 +19,7 @@ describe('velocity and diffusion of the two-state periodic model — Derrida 198
 		'u0=$u0 u1=$u1 w0=$w0 w1=$w1 d=$periodNm',
 		({ u0, u1, w0, w1, periodNm: d, firstSubstepFraction: f }) => {
 			// step a: 0 → 1 forward u0, back w1; step b: 1 → 0 of the next period, forward u1, back w0
-			const s = scheme(['0', '1'], [baseStep('a', '0', '1', u0, w1, d * f), baseStep('b', '1', '0', u1, w0, d * (1 - f))], {
+			const s = scheme(['0', '1'], [plainStep('a', '0', '1', u0, w1, d * f), plainStep('b', '1', '0', u1, w0, d * (1 - f))], {
 				stepSizeNm: d
 			});
 			const S = u0 + u1 + w0 + w1;
@@ -64,7 +42,7 @@ function tightCycle(n: number, d: number, dG0: number, c: Record<string, number>
 	const k = 4 * n;
 	for (let i = 0; i < k; i++) states.push(`M${i}`);
 	for (let i = 0; i < k; i++) {
-		const st = baseStep(`t${i}`, states[i], states[(i + 1) % k], 10 ** (1 + 3 * rand()), 10 ** (3 * rand()), i % 4 === 1 ? d / n : 0);
+		const st = plainStep(`t${i}`, states[i], states[(i + 1) % k], 10 ** (1 + 3 * rand()), 10 ** (3 * rand()), i % 4 === 1 ? d / n : 0);
 		if (i % 4 === 0) st.binds = ['ATP'];
 		if (i % 4 === 2) st.releases = ['ADP'];
 		if (i % 4 === 3) st.releases = ['Pi'];
@@ -108,9 +86,9 @@ describe('stall force and efficiency of tightly coupled motors', () => {
 	});
 
 	it('refuses to invent a stall force when V does not change sign', () => {
-		const undriven = scheme(['A', 'B'], [baseStep('a', 'A', 'B', 5, 5, 4), baseStep('b', 'B', 'A', 5, 5, 4)]);
+		const undriven = scheme(['A', 'B'], [plainStep('a', 'A', 'B', 5, 5, 4), plainStep('b', 'B', 'A', 5, 5, 4)]);
 		expect(velocityAt(undriven, 0)).toBe(0);
-		const oneWay = scheme(['A', 'B'], [baseStep('a', 'A', 'B', 5, 0, 4), baseStep('b', 'B', 'A', 5, 0, 4)]);
+		const oneWay = scheme(['A', 'B'], [plainStep('a', 'A', 'B', 5, 0, 4), plainStep('b', 'B', 'A', 5, 0, 4)]);
 		expect(() => stallForce(oneWay)).toThrow(/no stall force/);
 		expect(() => stallForce(PACER_STEPPER, { bracketPN: [0, 1] })).toThrow(/does not change sign/);
 	});

@@ -4,7 +4,7 @@ import { enumerateCycles } from './cycles';
 import { cycleFluxes } from './fluxes';
 import { preciseAnalysis } from './precise';
 import { effectiveRates } from './rates';
-import { randomScheme, type RandomSchemeOptions } from './random-scheme';
+import { plainStep, randomScheme, type RandomSchemeOptions } from './random-scheme';
 import { steadyState } from './steady-state';
 import { bruteForceTreeSums, enumerateForests } from './trees';
 import { judgeCycle } from './consistency';
@@ -80,20 +80,7 @@ function ladder(clusters: number, size: number, slow: number, fast: number): Sch
 	const scheme = randomScheme({ states: n, steps: n - 1, seed: 99 });
 	scheme.steps = [];
 	let s = 0;
-	const add = (a: number, b: number, kf: number, kb: number) =>
-		scheme.steps.push({
-			id: `s${s++}`,
-			from: `S${a}`,
-			to: `S${b}`,
-			kForward: kf,
-			kBackward: kb,
-			binds: [],
-			releases: [],
-			displacementNm: 0,
-			loadFraction: 0.5,
-			relUncertaintyForward: null,
-			relUncertaintyBackward: null
-		});
+	const add = (a: number, b: number, kf: number, kb: number) => scheme.steps.push(plainStep(`s${s++}`, `S${a}`, `S${b}`, kf, kb));
 	for (let c = 0; c < clusters; c++) {
 		for (let i = 1; i < size; i++) add(c * size + i - 1, c * size + i, fast * (1 + i), fast / (1 + i));
 		add(c * size, c * size + size - 1, fast, 2 * fast); // close a fast loop inside the cluster

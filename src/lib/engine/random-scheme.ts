@@ -46,20 +46,49 @@ const RANDOM_DEFAULTS: RandomSchemeOptions = {
 	displacements: false
 };
 
-function step(id: string, from: number, to: number, kForward: number, kBackward: number): SchemeStep {
+/** A step with the values parseScheme fills by default: no species, load shared half and half, no uncertainties. */
+export function plainStep(
+	id: string,
+	from: string,
+	to: string,
+	kForward: number,
+	kBackward: number,
+	displacementNm = 0
+): SchemeStep {
 	return {
 		id,
-		from: `S${from}`,
-		to: `S${to}`,
+		from,
+		to,
 		kForward,
 		kBackward,
 		binds: [],
 		releases: [],
-		displacementNm: 0,
+		displacementNm,
 		loadFraction: 0.5,
 		relUncertaintyForward: null,
 		relUncertaintyBackward: null
 	};
+}
+
+/** A scheme at 298.15 K without load, species or reference reactions, over the given states and steps. */
+export function plainScheme(name: string, stateIds: string[], steps: SchemeStep[]): Scheme {
+	return {
+		format: SCHEME_FORMAT,
+		name,
+		temperatureK: 298.15,
+		forcePN: 0,
+		stepSizeNm: null,
+		concentrationsM: {},
+		reactions: [],
+		states: stateIds.map((id) => ({ id })),
+		steps
+	};
+}
+
+const stateIds = (n: number) => Array.from({ length: n }, (_, i) => `S${i}`);
+
+function step(id: string, from: number, to: number, kForward: number, kBackward: number): SchemeStep {
+	return plainStep(id, `S${from}`, `S${to}`, kForward, kBackward);
 }
 
 /** A random connected scheme: a random spanning tree plus extra steps (parallel ones allowed). */
@@ -89,17 +118,7 @@ export function randomScheme(options: Partial<RandomSchemeOptions> = {}): Scheme
 		if (o.displacements) st.displacementNm = Math.round((rand() * 16 - 4) * 10) / 10;
 		return st;
 	});
-	return {
-		format: SCHEME_FORMAT,
-		name: `random scheme ${o.states}/${o.steps} seed ${o.seed}`,
-		temperatureK: 298.15,
-		forcePN: 0,
-		stepSizeNm: null,
-		concentrationsM: {},
-		reactions: [],
-		states: Array.from({ length: o.states }, (_, i) => ({ id: `S${i}` })),
-		steps
-	};
+	return plainScheme(`random scheme ${o.states}/${o.steps} seed ${o.seed}`, stateIds(o.states), steps);
 }
 
 /**
@@ -149,15 +168,5 @@ export function freeEnergyScheme(options: Partial<RandomSchemeOptions> = {}): Sc
 export function completeScheme(n: number, rate = 1): Scheme {
 	const steps: SchemeStep[] = [];
 	for (let a = 0; a < n; a++) for (let b = a + 1; b < n; b++) steps.push(step(`s${steps.length}`, a, b, rate, rate));
-	return {
-		format: SCHEME_FORMAT,
-		name: `complete graph K${n}`,
-		temperatureK: 298.15,
-		forcePN: 0,
-		stepSizeNm: null,
-		concentrationsM: {},
-		reactions: [],
-		states: Array.from({ length: n }, (_, i) => ({ id: `S${i}` })),
-		steps
-	};
+	return plainScheme(`complete graph K${n}`, stateIds(n), steps);
 }

@@ -4,8 +4,8 @@ import { all, create } from 'mathjs';
 import { describe, expect, it } from 'vitest';
 import { cycleFluxes } from './fluxes';
 import { effectiveRates } from './rates';
-import { randomScheme } from './random-scheme';
-import { SCHEME_FORMAT, type Scheme } from './scheme';
+import { plainScheme, plainStep, randomScheme } from './random-scheme';
+import type { Scheme } from './scheme';
 import { steadyState, stepFluxes } from './steady-state';
 
 const exact = JSON.parse(readFileSync(new URL('../../../reference/three-state-exact.json', import.meta.url), 'utf8'));
@@ -13,30 +13,11 @@ const fractionMath = create(all, { number: 'Fraction' });
 
 function threeStateScheme(): Scheme {
 	const k = exact.rates;
-	const step = (id: string, from: string, to: string, kForward: number, kBackward: number) => ({
-		id,
-		from,
-		to,
-		kForward,
-		kBackward,
-		binds: [],
-		releases: [],
-		displacementNm: 0,
-		loadFraction: 0.5,
-		relUncertaintyForward: null,
-		relUncertaintyBackward: null
-	});
-	return {
-		format: SCHEME_FORMAT,
-		name: 'three-state check',
-		temperatureK: 298.15,
-		forcePN: 0,
-		stepSizeNm: null,
-		concentrationsM: {},
-		reactions: [],
-		states: [{ id: '1' }, { id: '2' }, { id: '3' }],
-		steps: [step('a', '1', '2', k.k12, k.k21), step('b', '2', '3', k.k23, k.k32), step('c', '3', '1', k.k31, k.k13)]
-	};
+	return plainScheme('three-state check', ['1', '2', '3'], [
+		plainStep('a', '1', '2', k.k12, k.k21),
+		plainStep('b', '2', '3', k.k23, k.k32),
+		plainStep('c', '3', '1', k.k31, k.k13)
+	]);
 }
 
 /** Exact steady state with mathjs in fraction arithmetic: solve Lᵀp = 0 with one row replaced by Σp = 1. */
