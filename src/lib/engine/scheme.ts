@@ -149,6 +149,16 @@ export const schemeSchema = z.object(
 	{ error: 'a scheme must be a JSON object' }
 );
 
+/** "2 ATP + H2O → ADP + Pi" text of a stoichiometry (negative: taken up, positive: released). */
+export function formatEquation(stoichiometry: Record<string, number>): string {
+	const side = (sign: number) =>
+		Object.entries(stoichiometry)
+			.filter(([, n]) => Math.sign(n) === sign)
+			.map(([s, n]) => (Math.abs(n) === 1 ? s : `${Math.abs(n)} ${s}`))
+			.join(' + ');
+	return `${side(-1)} → ${side(1)}`;
+}
+
 /** `['steps', 3, 'kForward']` → `steps[3].kForward`. */
 export function formatPath(path: readonly PropertyKey[]): string {
 	let out = '';

@@ -5,7 +5,7 @@
  * repeats what the word says). Missing values (an irreversible cycle's ratio) are empty cells.
  */
 import ExcelJS from 'exceljs';
-import type { Audit, Scheme } from '../../engine/index';
+import { formatEquation, type Audit, type Scheme } from '../../engine/index';
 import {
 	cautionsOf,
 	cyclesTable,
@@ -19,7 +19,6 @@ import {
 	type AuditTable,
 	type Provenance
 } from './audit-tables';
-import { equationText } from './template';
 
 export const EXPORT_SHEETS = {
 	summary: 'Summary',
@@ -104,7 +103,7 @@ export async function auditWorkbook(audit: Audit, scheme: Scheme | null, provena
 		['thermal energy kBT', c?.kTpNnm ?? null, 'pN·nm'],
 		['step size', scheme?.stepSizeNm ?? null, 'nm'],
 		...Object.entries(c?.concentrationsM ?? scheme?.concentrationsM ?? {}).map(([s, x]) => [`[${s}]`, x, 'M']),
-		...(scheme?.reactions ?? []).map((r) => [`ΔG°' ${r.id} (${equationText(r.stoichiometry)})`, r.deltaG0kJPerMol, 'kJ/mol'])
+		...(scheme?.reactions ?? []).map((r) => [`ΔG°' ${r.id} (${formatEquation(r.stoichiometry)})`, r.deltaG0kJPerMol, 'kJ/mol'])
 	];
 	const cond = keyValueSheet(wb, EXPORT_SHEETS.conditions, conditionRows, [40, 16, 10]);
 	cond.getRow(1).font = { bold: true };

@@ -5,6 +5,7 @@
  * µM (and say so in the header) to show that unit in use.
  */
 import ExcelJS from 'exceljs';
+import { formatEquation } from '../../engine/index';
 import { EXAMPLE_LAB, EXAMPLE_NOTES, EXAMPLE_SCHEME } from './example';
 import { CONDITION_COLUMNS, EXAMPLE_PREFIX, LIMITS, REACTION_COLUMNS, SHEETS, STATE_COLUMNS, STEP_COLUMNS, type ColumnSpec } from './layout';
 import type { SchemeJson } from './to-scheme';
@@ -56,17 +57,8 @@ export function schemeRows(scheme: SchemeJson, perConcentration = 1, notes: Reco
 		s.relUncertaintyBackward ?? null,
 		notes[s.id] ?? null
 	]);
-	const reactions = scheme.reactions.map((r) => [r.id, equationText(r.stoichiometry), r.deltaG0kJPerMol, null]);
+	const reactions = scheme.reactions.map((r) => [r.id, formatEquation(r.stoichiometry), r.deltaG0kJPerMol, null]);
 	return { conditions, states, steps, reactions };
-}
-
-export function equationText(stoichiometry: Record<string, number>): string {
-	const side = (sign: number) =>
-		Object.entries(stoichiometry)
-			.filter(([, n]) => Math.sign(n) === sign)
-			.map(([s, n]) => (Math.abs(n) === 1 ? s : `${Math.abs(n)} ${s}`))
-			.join(' + ');
-	return `${side(-1)} → ${side(1)}`;
 }
 
 const README: [string, string][] = [

@@ -4,7 +4,7 @@
  * runs in the browser as you type; values that are not numbers are passed through as text so that parseScheme
  * reports them at their JSON path. Equations it cannot read are reported here, at the same kind of path.
  */
-import { parseScheme, type Scheme, type SchemeError } from '$lib/engine';
+import { formatEquation, parseScheme, type Scheme, type SchemeError } from '$lib/engine';
 
 export interface DraftState {
 	id: string;
@@ -45,16 +45,6 @@ export interface SchemeDraft {
 
 const numberText = (x: number | null | undefined): string => (x === null || x === undefined ? '' : String(x));
 
-/** "2 ATP + H2O → ADP + Pi" style text of a stoichiometry (negative: taken up, positive: released). */
-export function equationOf(stoichiometry: Record<string, number>): string {
-	const side = (sign: number) =>
-		Object.entries(stoichiometry)
-			.filter(([, n]) => Math.sign(n) === sign)
-			.map(([s, n]) => (Math.abs(n) === 1 ? s : `${Math.abs(n)} ${s}`))
-			.join(' + ');
-	return `${side(-1)} → ${side(1)}`;
-}
-
 /** Reads "ATP → ADP + Pi" (also "->" or "="); returns the stoichiometry or what is wrong with the text. */
 export function parseEquation(text: string): { ok: true; stoichiometry: Record<string, number> } | { ok: false; message: string } {
 	const sides = text.split(/→|->|=/);
@@ -82,7 +72,7 @@ export function draftOf(scheme: Scheme): SchemeDraft {
 		forcePN: numberText(scheme.forcePN),
 		stepSizeNm: numberText(scheme.stepSizeNm),
 		concentrations: Object.entries(scheme.concentrationsM).map(([species, c]) => ({ species, concentrationM: numberText(c) })),
-		reactions: scheme.reactions.map((r) => ({ id: r.id, equation: equationOf(r.stoichiometry), deltaG0kJPerMol: numberText(r.deltaG0kJPerMol) })),
+		reactions: scheme.reactions.map((r) => ({ id: r.id, equation: formatEquation(r.stoichiometry), deltaG0kJPerMol: numberText(r.deltaG0kJPerMol) })),
 		states: scheme.states.map((s) => ({ id: s.id, label: s.label ?? '' })),
 		steps: scheme.steps.map((s) => ({
 			id: s.id,
