@@ -104,20 +104,28 @@ function at(table: SourceTable, row: TableRow, key: string): CellRef {
 	return { sheet: table.sheet, row: row.row, column: cell?.column ?? col?.column ?? null };
 }
 
-function num(ctx: Ctx, table: SourceTable, row: TableRow, key: string, what: string): number | null | undefined {
+/** Reads one cell with `read`; a cell that got an error is flagged, so parseScheme's error for it is not reported again. */
+function readFlagged<T>(
+	read: (cell: TableRow['cells'][string] | undefined, at: CellRef, issues: IssueList, what: string) => T,
+	ctx: Ctx,
+	table: SourceTable,
+	row: TableRow,
+	key: string,
+	what: string
+): T {
 	const where = at(table, row, key);
 	const before = ctx.issues.errors.length;
-	const v = readNumber(row.cells[key], where, ctx.issues, what);
+	const v = read(row.cells[key], where, ctx.issues, what);
 	if (ctx.issues.errors.length > before) ctx.flagged.add(cellKey(where));
 	return v;
 }
 
+function num(ctx: Ctx, table: SourceTable, row: TableRow, key: string, what: string): number | null | undefined {
+	return readFlagged(readNumber, ctx, table, row, key, what);
+}
+
 function txt(ctx: Ctx, table: SourceTable, row: TableRow, key: string, what: string): string | null | undefined {
-	const where = at(table, row, key);
-	const before = ctx.issues.errors.length;
-	const v = readText(row.cells[key], where, ctx.issues, what);
-	if (ctx.issues.errors.length > before) ctx.flagged.add(cellKey(where));
-	return v;
+	return readFlagged(readText, ctx, table, row, key, what);
 }
 
 function fail(ctx: Ctx, where: CellRef, message: string): void {
