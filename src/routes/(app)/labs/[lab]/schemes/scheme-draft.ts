@@ -90,15 +90,12 @@ export function draftOf(scheme: Scheme): SchemeDraft {
 	};
 }
 
-/** A blank step row joining the first two states (or nothing), with an unused id. */
-export function newStep(draft: SchemeDraft): DraftStep {
-	const ids = new Set(draft.steps.map((s) => s.id));
-	let n = draft.steps.length + 1;
-	while (ids.has(`s${n}`)) n++;
+/** A step row with both rates 1 s⁻¹ and every optional field left to the engine's default. */
+function blankStep(id: string, from: string, to: string): DraftStep {
 	return {
-		id: `s${n}`,
-		from: draft.states[0]?.id ?? '',
-		to: draft.states[1]?.id ?? '',
+		id,
+		from,
+		to,
 		kForward: '1',
 		kBackward: '1',
 		binds: '',
@@ -108,6 +105,14 @@ export function newStep(draft: SchemeDraft): DraftStep {
 		relUncertaintyForward: '',
 		relUncertaintyBackward: ''
 	};
+}
+
+/** A blank step row joining the first two states (or nothing), with an unused id. */
+export function newStep(draft: SchemeDraft): DraftStep {
+	const ids = new Set(draft.steps.map((s) => s.id));
+	let n = draft.steps.length + 1;
+	while (ids.has(`s${n}`)) n++;
+	return blankStep(`s${n}`, draft.states[0]?.id ?? '', draft.states[1]?.id ?? '');
 }
 
 export function newState(draft: SchemeDraft): DraftState {
@@ -131,21 +136,7 @@ export function startingDraft(name = ''): SchemeDraft {
 			{ id: 'A', label: '' },
 			{ id: 'B', label: '' }
 		],
-		steps: [
-			{
-				id: 's1',
-				from: 'A',
-				to: 'B',
-				kForward: '1',
-				kBackward: '1',
-				binds: '',
-				releases: '',
-				displacementNm: '',
-				loadFraction: '',
-				relUncertaintyForward: '',
-				relUncertaintyBackward: ''
-			}
-		]
+		steps: [blankStep('s1', 'A', 'B')]
 	};
 }
 
