@@ -53,3 +53,20 @@ describe('the built app in chromium', () => {
 		expect(body.version).toMatch(/^\d+\.\d+\.\d+/);
 	});
 });
+
+describe('password guessing', () => {
+	it('pauses an address after repeated failed sign-ins, and says how long', async () => {
+		const anonymous = await openBrowser(); // a browser nobody is signed in to
+		const page = await anonymous.newPage();
+		// Eight failures are allowed in the window; the ninth attempt is refused before any password check.
+		for (let i = 0; i < 8; i++) {
+			await signIn(page, 'jun.adeyemi@kestrel.example', `wrong-password-${i}`);
+			await page.getByRole('alert').waitFor();
+		}
+		await signIn(page, 'jun.adeyemi@kestrel.example');
+		const alert = await page.getByRole('alert').textContent();
+		expect(alert).toMatch(/Too many failed sign-ins for this address\. Wait \d+ minutes?/);
+		expect(page.url()).toMatch(/\/signin/);
+		await anonymous.close();
+	});
+});

@@ -2,7 +2,7 @@
  * Sign-in with Auth.js: e-mail and password (Credentials) and sign-in links by e-mail (Nodemailer, through the
  * local SMTP sink in development). Sessions are signed JWT cookies that expire after eight hours.
  */
-import { SvelteKitAuth, type SvelteKitAuthConfig } from '@auth/sveltekit';
+import { CredentialsSignin, SvelteKitAuth, type SvelteKitAuthConfig } from '@auth/sveltekit';
 import Credentials from '@auth/sveltekit/providers/credentials';
 import Nodemailer from '@auth/sveltekit/providers/nodemailer';
 import { DrizzleAdapter } from '@auth/drizzle-adapter';
@@ -13,6 +13,12 @@ import { config } from './config';
 import { verifyPassword } from './passwords';
 import { logActivityForUser } from './activity';
 import { sendMail } from './mail/send';
+import { clearFailedSignIns, recordFailedSignIn, signInBlockedFor } from './rate-limit';
+
+/** Too many failed attempts for this address; the sign-in page says how long to wait. */
+class SignInPaused extends CredentialsSignin {
+	code = 'paused';
+}
 
 const credentialsInput = z.object({ email: z.email(), password: z.string().min(1).max(200) });
 
@@ -50,9 +56,14 @@ function authConfig(): SvelteKitAuthConfig {
 				const parsed = credentialsInput.safeParse(raw);
 				if (!parsed.success) return null;
 				const email = parsed.data.email.trim().toLowerCase();
+				if ((await signInBlockedFor(email)) > 0) throw new SignInPaused();
 				const [user] = await db.select().from(schema.users).where(eq(schema.users.email, email));
 				const ok = await verifyPassword(parsed.data.password, user?.passwordHash);
-				if (!user || !ok) return null;
+				if (!user || !ok) {
+					await recordFailedSignIn(email);
+					return null;
+				}
+				await clearFailedSignIns(email);
 				return { id: user.id, email: user.email, name: user.name };
 			}
 		}),

@@ -1,5 +1,6 @@
 import { fail, isRedirect, redirect } from '@sveltejs/kit';
 import { signIn } from '$lib/server/auth';
+import { signInBlockedFor } from '$lib/server/rate-limit';
 import type { Actions, PageServerLoad } from './$types';
 
 const MESSAGES: Record<string, string> = {
@@ -30,7 +31,12 @@ export const actions: Actions = {
 			if (isRedirect(err)) throw err;
 			// Auth.js throws on a wrong password or an unknown address for a link; answer on the page, without saying
 			// which part of the credentials was wrong.
-			const type = (err as { type?: string }).type;
+			const { type, code } = err as { type?: string; code?: string };
+			if (type === 'CredentialsSignin' && code === 'paused') {
+				const wait = Math.max(1, Math.ceil((await signInBlockedFor(String(form.get('email') ?? ''))) / 60));
+				const message = `Too many failed sign-ins for this address. Wait ${wait} minute${wait === 1 ? '' : 's'}, or ask for a sign-in link by e-mail.`;
+				return fail(429, { message, email: String(form.get('email') ?? ''), mode: 'password' as const });
+			}
 			if (type && type in MESSAGES) {
 				const mode = form.get('providerId') === 'email-link' ? ('link' as const) : ('password' as const);
 				return fail(400, { message: MESSAGES[type], email: String(form.get('email') ?? ''), mode });
