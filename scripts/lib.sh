@@ -75,7 +75,7 @@ pg_start() {
   if pg_run "$PGBIN/pg_ctl" -D "$data" status >/dev/null 2>&1; then
     say "PostgreSQL ($name) already running on port $port"
   else
-    if port_in_use "$port"; then die "port $port is in use by another program; stop it or set PGPORT to a free port."; fi
+    if port_in_use "$port"; then die "port $port is in use by another program (another cluster?); stop it, or choose a free port with PGPORT (npm start, dev) or TEST_PGPORT (npm test)."; fi
     say "starting PostgreSQL ($name) on 127.0.0.1:$port"
     pg_run "$PGBIN/pg_ctl" -D "$data" -l "$data/server.log" -w -t 30 \
       -o "-c listen_addresses=127.0.0.1 -p $port -c unix_socket_directories=$sock -c fsync=${PG_FSYNC:-on}" start >/dev/null \
