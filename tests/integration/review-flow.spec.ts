@@ -20,7 +20,7 @@ afterAll(async () => {
 	await stopJobs();
 });
 
-async function mailTo(address: string, subjectPart: string, timeoutMs = 20_000) {
+async function mailTo(address: string, subjectPart: string, timeoutMs = 45_000) {
 	const until = Date.now() + timeoutMs;
 	while (Date.now() < until) {
 		const rows = await db

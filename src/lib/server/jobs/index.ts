@@ -29,8 +29,14 @@ export function getBoss(): Promise<PgBoss> {
 export function startJobs(): Promise<void> {
 	working ??= (async () => {
 		const boss = await getBoss();
-		await boss.work<OutgoingMail>(QUEUES.mail, { pollingIntervalSeconds: 1 }, async (jobs) => {
-			for (const job of jobs) await sendMail(job.data);
+		// Up to 20 messages per fetch, each on its own: a message that fails is retried alone (pg-boss completes only
+		// the jobs still active when the handler returns), so the others are not sent twice.
+		await boss.work<OutgoingMail>(QUEUES.mail, { pollingIntervalSeconds: 1, batchSize: 20 }, async (jobs) => {
+			await Promise.all(
+				jobs.map((job) =>
+					sendMail(job.data).catch((err: Error) => boss.fail(QUEUES.mail, job.id, { message: err.message }))
+				)
+			);
 		});
 	})();
 	return working;
