@@ -83,7 +83,7 @@ describe('PDF report, opened with pdfjs', () => {
 		const a = auditScheme(v);
 		const bytes = await auditPdf(a, v, provenance(a), null);
 		const all = (await pdfPages(bytes)).join('\n').replace(/\s+/g, ' ');
-		for (const c of a.cycles) expect(all).toContain(`${[...c.states, c.states[0]].join(' -> ')} ${c.verdict}`);
+		for (const c of a.cycles) expect(all).toContain(`${[...c.states, c.states[0]].join(' → ')} ${c.verdict}`);
 		const raw = Buffer.from(bytes).toString('latin1');
 		expect(raw).toMatch(/\/FontFile2|\/FontFile3|\/FontFile/);
 		expect(raw).toMatch(/IBMPlexSans/);
@@ -96,5 +96,17 @@ describe('PDF report, opened with pdfjs', () => {
 		const b = await auditPdf(audit, s, p, null);
 		const strip = (x: Uint8Array) => Buffer.from(x).toString('latin1').replace(/\/(CreationDate|ModDate) \([^)]*\)/g, '').replace(/\/ID \[<[^\]]*\]/g, '');
 		expect(createHash('sha256').update(strip(a)).digest('hex')).toBe(createHash('sha256').update(strip(b)).digest('hex'));
+	});
+
+	it('draws Greek letters and arrows of labels as they are, and marks signs the font lacks', async () => {
+		const greek = scheme({
+			...EXAMPLE_SCHEME,
+			states: EXAMPLE_SCHEME.states.map((st, i) => (i === 0 ? { ...st, label: 'ΔG° low, κ-state' } : i === 1 ? { ...st, label: '漢 bound' } : st))
+		});
+		const a = auditScheme(greek);
+		const all = (await pdfPages(await auditPdf(a, greek, provenance(a), null))).join('\n');
+		expect(all).toContain('ΔG° low, κ-state');
+		expect(all).toContain('? bound'); // IBM Plex Sans has no CJK glyphs: a visible '?', never an empty box
+		expect(all).toContain(' → ');
 	});
 });

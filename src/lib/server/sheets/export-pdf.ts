@@ -3,9 +3,9 @@
  * findings and cautions, provenance, and a signature block (signer, time, content hash; "awaiting
  * signature" while unsigned).
  *
- * Fonts: IBM Plex Sans and Mono from the @fontsource packages, unwrapped from WOFF and embedded;
- * nothing is fetched from the network. Their Latin subset has no Greek and no →, so text is
- * passed through `pdfText` (Π → Pi, → → ->, …). The diagram is laid out headless with d3-force (its
+ * Fonts: IBM Plex Sans, complete (Latin, Greek, arrows; from @ibm/plex-sans), and the Latin subset of Plex Mono
+ * (from @fontsource), unwrapped from WOFF and embedded; nothing is fetched from the network. Text passes through
+ * `pdfText`, which writes out the few signs the font lacks (⁻¹ as ^-1). The diagram is laid out headless with d3-force (its
  * default random source is a fixed-seed LCG, so the same scheme gives the same picture); parallel steps
  * between two states are drawn as curves bowed apart. Schemes above DIAGRAM_MAX_STATES states get no
  * diagram (it would be unreadable on a page).
@@ -14,6 +14,7 @@ import { forceCenter, forceCollide, forceLink, forceManyBody, forceSimulation, t
 import { readFileSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import { inflateSync } from 'node:zlib';
+import * as fontkit from 'fontkit';
 import PDFDocument from 'pdfkit';
 import type { Audit, Scheme } from '../../engine/index';
 import {
@@ -39,8 +40,10 @@ export const DIAGRAM_MAX_STATES = 40;
 export const PDF_TABLE_ROWS = 80;
 
 const require = createRequire(import.meta.url);
-const fontFile = (family: 'sans' | 'mono', weight: number) =>
-	woffToSfnt(readFileSync(require.resolve(`@fontsource/ibm-plex-${family}/files/ibm-plex-${family}-latin-${weight}-normal.woff`)));
+/** IBM Plex Sans complete (Latin, Greek, arrows) for text; the Latin subset of Plex Mono for numbers and hashes. */
+const sansFile = (style: 'Regular' | 'SemiBold') =>
+	woffToSfnt(readFileSync(require.resolve(`@ibm/plex-sans/fonts/complete/woff/IBMPlexSans-${style}.woff`)));
+const monoFile = () => woffToSfnt(readFileSync(require.resolve('@fontsource/ibm-plex-mono/files/ibm-plex-mono-latin-400-normal.woff')));
 
 /**
  * WOFF 1.0 → the plain TrueType/OpenType font it wraps (W3C WOFF File Format 1.0: 44-byte header, 20-byte
@@ -85,18 +88,30 @@ export function woffToSfnt(woff: Buffer): Buffer {
 	return Buffer.concat([head, ...bodies]);
 }
 
-let fonts: { sans: Buffer; sansBold: Buffer; mono: Buffer } | null = null;
+let fonts: { sans: Buffer; sansBold: Buffer; mono: Buffer; covers: (codePoint: number) => boolean } | null = null;
 function loadFonts() {
-	fonts ??= { sans: fontFile('sans', 400), sansBold: fontFile('sans', 600), mono: fontFile('mono', 400) };
+	if (!fonts) {
+		const sans = sansFile('Regular');
+		const face = fontkit.create(sans) as unknown as { hasGlyphForCodePoint(c: number): boolean };
+		fonts = { sans, sansBold: sansFile('SemiBold'), mono: monoFile(), covers: (c) => face.hasGlyphForCodePoint(c) };
+	}
 	return fonts;
 }
 
-/** Greek letters and arrows spelled out: the embedded Latin subset has no glyphs for them, and 'P' for Π would mislead. */
-const REPLACE: Record<string, string> = { '→': '->', '←': '<-', '⇌': '<->', 'Π': 'Pi', 'Δ': 'Delta ', 'σ': 'sigma', 'κ': 'kappa', 'θ': 'theta', '⁻': '-', '¹': '1', '′': "'", 'χ': 'chi', 'λ': 'lambda', 'μ': 'µ' };
+/** The few signs of our own text that IBM Plex Sans has no glyph for, written out. */
+const REPLACE: [RegExp, string][] = [
+	[/⁻¹/g, '^-1'],
+	[/⁻/g, '^-'],
+	[/₊/g, '+'],
+	[/₋/g, '-'],
+	[/⇌/g, '<->']
+];
 
-/** Text the embedded Latin fonts can show. */
+/** Text the embedded font can show: Latin, Greek and arrows as they are, anything else it lacks as '?'. */
 export function pdfText(text: string): string {
-	return [...text].map((c) => REPLACE[c] ?? (c.codePointAt(0)! <= 0xff || '–—‘’“”…•−×'.includes(c) ? c : '?')).join('');
+	const { covers } = loadFonts();
+	const spelled = REPLACE.reduce((t, [pattern, by]) => t.replace(pattern, by), text);
+	return [...spelled].map((c) => (c === '\n' || covers(c.codePointAt(0)!) ? c : '?')).join('');
 }
 
 /** 4 significant digits; exponent form outside 1e-3…1e5; '—' for missing. */
@@ -331,7 +346,7 @@ export async function auditPdf(audit: Audit, scheme: Scheme | null, provenance: 
 		],
 		cycles.map((cy, i) => [
 			String(i + 1),
-			[...cy.states, cy.states[0]].join(' -> '),
+			[...cy.states, cy.states[0]].join(' → '),
 			cy.verdict,
 			formatNumber(cy.deviationLog10),
 			formatNumber(cy.sigmaLog10),
@@ -358,10 +373,10 @@ export async function auditPdf(audit: Audit, scheme: Scheme | null, provenance: 
 	const steps = new Map((scheme?.steps ?? []).map((s) => [s.id, s]));
 	table(
 		doc,
-		[{ header: 'step', width: 50 }, { header: 'from -> to', width: 80 }, { header: 'effective rate forward (1/s)', width: 100, align: 'right' }, { header: 'effective rate backward (1/s)', width: 100, align: 'right' }, { header: 'net flux (1/s)', width: 90, align: 'right' }],
+		[{ header: 'step', width: 50 }, { header: 'from → to', width: 80 }, { header: 'effective rate forward (1/s)', width: 100, align: 'right' }, { header: 'effective rate backward (1/s)', width: 100, align: 'right' }, { header: 'net flux (1/s)', width: 90, align: 'right' }],
 		audit.steps.slice(0, PDF_TABLE_ROWS).map((s) => {
 			const st = steps.get(s.id);
-			return [s.id, st ? `${st.from} -> ${st.to}` : '', formatNumber(s.forwardRate), formatNumber(s.backwardRate), formatNumber(s.netFlux)];
+			return [s.id, st ? `${st.from} → ${st.to}` : '', formatNumber(s.forwardRate), formatNumber(s.backwardRate), formatNumber(s.netFlux)];
 		}),
 		audit.steps.length > PDF_TABLE_ROWS ? `${audit.steps.length - PDF_TABLE_ROWS} more steps are in the workbook and CSV exports.` : undefined
 	);
