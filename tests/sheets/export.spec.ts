@@ -29,7 +29,7 @@ const provenance = (audit: Audit) => ({
 	sourceSha256: createHash('sha256').update('source bytes').digest('hex'),
 	engineVersion: ENGINE_VERSION,
 	createdAt: '2026-03-05T10:15:00.000Z',
-	createdBy: 'Ingrid Halvorsen',
+	createdBy: 'Tobias Reinholt',
 	auditSha256: createHash('sha256').update(JSON.stringify(audit)).digest('hex')
 });
 
@@ -135,7 +135,7 @@ describe('audit workbook, re-read with exceljs and checked cell by cell', () => 
 		expect(prov.get('source file SHA-256')).toBe(p.sourceSha256);
 		expect(prov.get('audit SHA-256')).toBe(p.auditSha256);
 		expect(prov.get('engine version')).toBe(ENGINE_VERSION);
-		expect(prov.get('audit run by')).toBe('Ingrid Halvorsen');
+		expect(prov.get('audit run by')).toBe('Tobias Reinholt');
 	});
 });
 

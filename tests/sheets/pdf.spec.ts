@@ -37,7 +37,7 @@ const provenance = (audit: Audit) => ({
 	sourceSha256: createHash('sha256').update('the uploaded workbook').digest('hex'),
 	engineVersion: ENGINE_VERSION,
 	createdAt: '2026-03-05T10:15:00.000Z',
-	createdBy: 'Ingrid Halvorsen',
+	createdBy: 'Tobias Reinholt',
 	auditSha256: createHash('sha256').update(JSON.stringify(audit)).digest('hex')
 });
 

@@ -1,6 +1,6 @@
 /**
  * Invented demo schemes for the UI, the CLI and the tests: the "Pacer-1" stepper of the fictional
- * Tessaro Motor Lab (one ATP and 8 nm per cycle), consistent by construction, and a copy with a mistyped
+ * Kestrel Motility Lab (one ATP and 8 nm per cycle), consistent by construction, and a copy with a mistyped
  * rate that breaks consistency. Rates are invented.
  *
  * Source: none — an invented scenario; its closing rate follows from Σ ln kF − Σ ln kB = −ΔG°'/RT for a
@@ -27,7 +27,7 @@ function pacer(): Scheme {
 	steps[3].kBackward = Math.exp(lnRatio + DG0 / molarThermalEnergyKJPerMol(T));
 	return {
 		format: SCHEME_FORMAT,
-		name: 'Pacer-1 stepper (Tessaro Motor Lab, invented)',
+		name: 'Pacer-1 stepper (Kestrel Motility Lab, invented)',
 		temperatureK: T,
 		forcePN: 0,
 		stepSizeNm: 8,

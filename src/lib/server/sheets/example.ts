@@ -1,5 +1,5 @@
 /**
- * The filled-in example of the template: an invented scenario, the Halvorsen Motor Lab's "Orrin-1", a
+ * The filled-in example of the template: an invented scenario, the Kestrel Motility Lab's "Orrin-1", a
  * made-up two-headed stepping motor with 8 nm steps. Its rates are invented; the backward rates of the
  * last step and of the futile branch are derived from ΔG°' of ATP hydrolysis, so every cycle of the
  * example is thermodynamically consistent (to the 4 significant digits written on the sheet).
@@ -19,11 +19,11 @@ const kb = { s1: 35, s2: 4.2, s3: 1.6e3 };
 const kb4 = round4((kf.s1 * kf.s2 * kf.s3 * kf.s4) / (kb.s1 * kb.s2 * kb.s3 * K0));
 const kb5 = round4((kf.s1 * kf.s5 * kf.s4) / (kb.s1 * kb4 * K0));
 
-export const EXAMPLE_LAB = 'Halvorsen Motor Lab';
+export const EXAMPLE_LAB = 'Kestrel Motility Lab';
 
 export const EXAMPLE_SCHEME: SchemeJson = {
 	format: 'escapement.scheme/1',
-	name: 'Orrin-1 stepping cycle (Halvorsen Motor Lab, invented example)',
+	name: 'Orrin-1 stepping cycle (Kestrel Motility Lab, invented example)',
 	temperatureK: T,
 	forcePN: 2,
 	stepSizeNm: 8,
