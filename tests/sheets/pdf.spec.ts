@@ -109,4 +109,12 @@ describe('PDF report, opened with pdfjs', () => {
 		expect(all).toContain('? bound'); // IBM Plex Sans has no CJK glyphs: a visible '?', never an empty box
 		expect(all).toContain(' → ');
 	});
+
+	it('says the entropy production is infinite when a zero rate carries net flux (Schnakenberg 1976 [pub]: each such step adds J·ln(J+/0))', async () => {
+		const oneWay = scheme({ ...EXAMPLE_SCHEME, steps: EXAMPLE_SCHEME.steps.map((st, i) => (i === 0 ? { ...st, kBackward: 0 } : st)) });
+		const a = auditScheme(oneWay);
+		expect(a.observables.entropyProductionKTPerS).toBeNull();
+		const first = (await pdfPages(await auditPdf(a, oneWay, provenance(a), null)))[0].replace(/\s+/g, ' ');
+		expect(first).toContain('entropy production: infinite');
+	});
 });

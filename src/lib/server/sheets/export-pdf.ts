@@ -298,7 +298,8 @@ export async function auditPdf(audit: Audit, scheme: Scheme | null, provenance: 
 		`mean velocity: ${formatNumber(o.velocityNmPerS)} nm/s`,
 		`effective diffusion coefficient: ${formatNumber(o.diffusionNm2PerS)} nm²/s`,
 		`randomness: ${formatNumber(o.randomness)}`,
-		`entropy production: ${formatNumber(o.entropyProductionKTPerS)} kB/s`,
+		// The engine reports null when a step with a zero rate carries net flux: the entropy production is infinite.
+		`entropy production: ${o.entropyProductionKTPerS === null ? 'infinite (a step with a zero rate carries net flux)' : `${formatNumber(o.entropyProductionKTPerS)} kB/s`}`,
 		...Object.entries(o.reactionRatesPerS ?? {}).map(([id, r]) => `turnover of ${id}: ${formatNumber(r)} /s`),
 		`efficiency: ${formatNumber(o.efficiency)}`
 	];
