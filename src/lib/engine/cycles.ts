@@ -87,12 +87,28 @@ export function enumerateCycles(
 	let work = 0;
 	let stopped = false;
 
-	const visit = (root: number, v: number): void => {
-		for (let e = start[v]; e < start[v + 1]; e++) {
-			if (stopped) return;
+	// Explicit stack instead of recursion: a path can be as long as the scheme has states (a 5,000-state ring),
+	// deeper than the call stack allows. `edgeAt[d]` is the next edge to try from the d-th state of the path.
+	const edgeAt = new Int32Array(g.n + 1);
+	for (let root = 0; root < g.n && !stopped; root++) {
+		onPath[root] = 1;
+		pathStates.push(root);
+		edgeAt[0] = start[root];
+		while (pathStates.length > 0 && !stopped) {
+			const d = pathStates.length - 1;
+			const v = pathStates[d];
+			const e = edgeAt[d];
+			if (e >= start[v + 1]) {
+				// every edge of v tried: step back
+				onPath[v] = 0;
+				pathStates.pop();
+				if (d > 0) pathSteps.pop();
+				continue;
+			}
+			edgeAt[d] = e + 1;
 			if (++work > budget) {
 				stopped = true;
-				return;
+				break;
 			}
 			const w = neighbour[e];
 			const s = viaStep[e];
@@ -101,7 +117,7 @@ export function enumerateCycles(
 				if (pathSteps.length >= 1 && s > pathSteps[0].step) {
 					if (cycles.length >= maxCycles) {
 						stopped = true;
-						return;
+						break;
 					}
 					cycles.push(
 						orient({
@@ -116,19 +132,11 @@ export function enumerateCycles(
 			onPath[w] = 1;
 			pathStates.push(w);
 			pathSteps.push({ step: s, direction: direction[e] as 1 | -1 });
-			visit(root, w);
-			pathStates.pop();
-			pathSteps.pop();
-			onPath[w] = 0;
+			edgeAt[d + 1] = start[w];
 		}
-	};
-
-	for (let root = 0; root < g.n && !stopped; root++) {
-		onPath[root] = 1;
-		pathStates.push(root);
-		visit(root, root);
-		pathStates.pop();
-		onPath[root] = 0;
+		for (const v of pathStates) onPath[v] = 0;
+		pathStates.length = 0;
+		pathSteps.length = 0;
 	}
 	return { cycles, complete: !stopped };
 }

@@ -69,16 +69,30 @@ export function enumerateForests(
 	const choice = new Int32Array(n).fill(-1);
 	let count = 0;
 	let weightSum = 0;
-	const place = (k: number, weight: number): void => {
+	// Iterative depth-first placement (one level per free state) so a long chain of states cannot overflow the
+	// call stack; `edgeAt[k]` is the next edge to try for free[k], `weightAt[k]` the product of the edges above it.
+	const edgeAt = new Int32Array(free.length + 1);
+	const weightAt = new Float64Array(free.length + 1);
+	weightAt[0] = 1;
+	let k = 0;
+	while (k >= 0) {
 		if (k === free.length) {
 			count++;
-			weightSum += weight;
-			visit?.(choice, outEdges, weight);
-			return;
+			weightSum += weightAt[k];
+			visit?.(choice, outEdges, weightAt[k]);
+			k--;
+			continue;
 		}
 		const u = free[k];
 		const edges = outEdges[u];
-		for (let e = 0; e < edges.length; e++) {
+		if (choice[u] >= 0) {
+			// coming back from level k + 1: undo this level's choice
+			next[u] = -1;
+			choice[u] = -1;
+		}
+		let placed = false;
+		while (edgeAt[k] < edges.length) {
+			const e = edgeAt[k]++;
 			// reject a choice that closes a loop among the states placed so far
 			let w = edges[e].to;
 			let loops = false;
@@ -92,12 +106,17 @@ export function enumerateForests(
 			if (loops || w === u) continue;
 			next[u] = edges[e].to;
 			choice[u] = e;
-			place(k + 1, weight * edges[e].rate);
-			next[u] = -1;
-			choice[u] = -1;
+			weightAt[k + 1] = weightAt[k] * edges[e].rate;
+			edgeAt[k + 1] = 0;
+			placed = true;
+			break;
 		}
-	};
-	place(0, 1);
+		if (placed) k++;
+		else {
+			edgeAt[k] = 0;
+			k--;
+		}
+	}
 	return { count, weightSum };
 }
 
