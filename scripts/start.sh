@@ -52,7 +52,7 @@ cat <<MSG
 
   Escapement is running at  $ORIGIN
   Database: $DATABASE_URL   (data in $(pg_data_base)/dev)
-  Caught e-mail: $ORIGIN/labs/kestrel/mail (for lab leads)
+  Caught e-mail: $ORIGIN/mail (each person reads the messages to their own address)
 
   Demo sign-ins (password for all: $(cd "$ROOT" && npx tsx scripts/seed.ts --print-password)):
 $(cd "$ROOT" && npx tsx scripts/seed.ts --print-users | sed 's/^/    /')

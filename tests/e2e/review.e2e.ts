@@ -1,6 +1,7 @@
 /**
- * Review and sign-off in the built app: the modeller submits the demo lab's draft audit, the reviewer follows the
- * link from the caught e-mail, signs with their password, and the PDF report carries the signature.
+ * Review and sign-off in the built app: the modeller submits the demo lab's draft audit, the reviewer reads the
+ * request in their own caught mail (the lead cannot), follows the link, signs with their password, and the PDF
+ * report carries the signature.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { readFile } from 'node:fs/promises';
@@ -11,14 +12,15 @@ import { BASE_URL, openBrowser, shot, signIn } from './browser';
 let modeller: BrowserContext;
 let lead: BrowserContext;
 let reviewer: BrowserContext;
+let reviewerInbox: BrowserContext;
 let auditUrl = '';
 const note = `Please check the futile branch (${Date.now()}).`;
 
 beforeAll(async () => {
-	[modeller, lead, reviewer] = [await openBrowser(), await openBrowser(), await openBrowser()];
+	[modeller, lead, reviewer, reviewerInbox] = [await openBrowser(), await openBrowser(), await openBrowser(), await openBrowser()];
 });
 afterAll(async () => {
-	for (const c of [modeller, lead, reviewer]) await c?.close();
+	for (const c of [modeller, lead, reviewer, reviewerInbox]) await c?.close();
 });
 
 async function pdfText(path: string): Promise<string> {
@@ -47,15 +49,15 @@ describe('review and sign-off', () => {
 		await expect.poll(async () => page.getByText('Awaiting review').first().isVisible().catch(() => false), { timeout: 15_000 }).toBe(true);
 	});
 
-	it('the review request reaches the reviewer through the mail sink', async () => {
-		const page = await lead.newPage();
-		await signIn(page, 'maren.oduya@kestrel.example');
+	it('the review request reaches the reviewer through the mail sink, and only the reviewer', async () => {
+		const page = await reviewerInbox.newPage();
+		await signIn(page, 'priya.castellanos@kestrel.example');
 		await page.waitForURL(/\/labs/);
 		const auditPath = new URL(auditUrl).pathname;
 		await expect
 			.poll(
 				async () => {
-					await page.goto(`${BASE_URL}/labs/kestrel/mail`);
+					await page.goto(`${BASE_URL}/mail`);
 					return page.locator('article').textContent();
 				},
 				{ timeout: 30_000, interval: 1000 }
@@ -64,7 +66,14 @@ describe('review and sign-off', () => {
 		const body = (await page.locator('article').textContent())!;
 		expect(body).toContain('priya.castellanos@kestrel.example');
 		expect(body).toContain(note);
+		await expect(page.getByRole('note').filter({ hasText: 'not a mail server' }).isVisible()).resolves.toBe(true);
 		await shot(page, 'caught-mail');
+		// The lab lead reads their own mail only: the review request to the reviewer is not among it.
+		const leadPage = await lead.newPage();
+		await signIn(leadPage, 'maren.oduya@kestrel.example');
+		await leadPage.waitForURL(/\/labs/);
+		await leadPage.goto(`${BASE_URL}/mail`);
+		expect(await leadPage.locator('main').textContent()).not.toContain(note);
 	});
 
 	it('the reviewer opens the link, signs with their password, and the PDF carries the signature', async () => {

@@ -1,17 +1,18 @@
 /**
- * Reading the local mail sink: a lab lead sees the caught messages addressed to people of their lab (members and
- * open invitations), newest first. Messages to other addresses stay hidden.
+ * Reading the local mail sink (development and tests, where it stands in for a mail server): each signed-in person
+ * reads only the caught messages addressed to their own account's address, newest first. Nobody reads another
+ * person's mail, lab lead or not: sign-in links and invitation tokens in it are that person's secrets.
+ * Also the lab's activity log, for lab leads.
  */
 import { and, desc, eq, sql } from 'drizzle-orm';
-import { error } from '@sveltejs/kit';
 import { db, schema } from './db';
 
-function labAddresses(labId: string) {
-	return sql`(select lower(u.email) from lab_members m join users u on u.id = m.user_id where m.lab_id = ${labId}
-		union select lower(i.email) from invitations i where i.lab_id = ${labId})`;
+function addressedTo(email: string) {
+	return sql`${email.trim().toLowerCase()} = any(${schema.caughtMail.envelopeTo})`;
 }
 
-export async function caughtMailForLab(labId: string, limit = 100) {
+/** The caught messages to this address (the signed-in person's own), newest first. */
+export async function caughtMailFor(email: string, limit = 100) {
 	return db
 		.select({
 			id: schema.caughtMail.id,
@@ -21,18 +22,25 @@ export async function caughtMailForLab(labId: string, limit = 100) {
 			textBody: schema.caughtMail.textBody
 		})
 		.from(schema.caughtMail)
-		.where(sql`${schema.caughtMail.envelopeTo} && array${labAddresses(labId)}`)
-		.orderBy(desc(schema.caughtMail.receivedAt))
+		.where(addressedTo(email))
+		.orderBy(desc(schema.caughtMail.receivedAt), desc(schema.caughtMail.id))
 		.limit(limit);
 }
 
-export async function caughtMessage(labId: string, id: number) {
+/** One caught message if it was addressed to this address, else null (no hint whether it exists). */
+export async function caughtMessageFor(email: string, id: number) {
+	if (!Number.isSafeInteger(id) || id <= 0) return null;
 	const [row] = await db
-		.select()
+		.select({
+			id: schema.caughtMail.id,
+			to: schema.caughtMail.envelopeTo,
+			subject: schema.caughtMail.subject,
+			receivedAt: schema.caughtMail.receivedAt,
+			textBody: schema.caughtMail.textBody
+		})
 		.from(schema.caughtMail)
-		.where(and(eq(schema.caughtMail.id, id), sql`${schema.caughtMail.envelopeTo} && array${labAddresses(labId)}`));
-	if (!row) error(404, { message: 'No such message for this lab.', code: 'not_found' });
-	return row;
+		.where(and(eq(schema.caughtMail.id, id), addressedTo(email)));
+	return row ?? null;
 }
 
 export async function activityForLab(labId: string, opts: { page?: number; pageSize?: number } = {}) {

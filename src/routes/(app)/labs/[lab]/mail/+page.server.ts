@@ -1,10 +1,7 @@
-import { requireLab, requireUserPage } from '$lib/server/access';
-import { caughtMailForLab } from '$lib/server/mailbox';
+import { redirect } from '@sveltejs/kit';
 import type { PageServerLoad } from './$types';
 
-export const load: PageServerLoad = async ({ locals, params, url }) => {
-	const access = await requireLab(requireUserPage(locals, url), params.lab, 'manage');
-	const messages = await caughtMailForLab(access.lab.id);
-	const open = Number(url.searchParams.get('open') ?? messages[0]?.id ?? 0);
-	return { messages, open };
+/** Caught mail used to be a page of the lab; each person now reads their own at /mail. */
+export const load: PageServerLoad = () => {
+	redirect(308, '/mail');
 };
