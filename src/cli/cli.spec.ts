@@ -1,9 +1,10 @@
-import { spawnSync } from 'node:child_process';
+import { spawn, spawnSync } from 'node:child_process';
 import { mkdtempSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { PACER_STEPPER_MISFIT } from '../lib/engine/examples';
+import { freeEnergyScheme } from '../lib/engine/random-scheme';
 
 const dir = mkdtempSync(join(tmpdir(), 'escapement-cli-'));
 const run = (...args: string[]) =>
@@ -44,4 +45,37 @@ describe('escapement audit (CLI)', () => {
 		expect(missing.stderr).toMatch(/ENOENT/);
 		expect(run('frobnicate').status).toBe(2);
 	});
+
+	it('regression, JSON cut at 128 KiB when piped: writes all of a large audit through a slow pipe before exiting', async () => {
+		const big = join(dir, 'big.json');
+		writeFileSync(big, JSON.stringify(freeEnergyScheme({ states: 12, steps: 30, seed: 3 })));
+		const child = spawn(process.execPath, ['--import', 'tsx', 'src/cli/index.ts', 'audit', big, '--json', '--max-cycles', '1500'], {
+			cwd: process.cwd(),
+			stdio: ['ignore', 'pipe', 'pipe']
+		});
+		const chunks: Buffer[] = [];
+		let stderr = '';
+		child.stderr.on('data', (c: Buffer) => (stderr += c));
+		const exited = new Promise<number | null>((resolve) => child.on('close', (code) => resolve(code)));
+		// A slow reader: after the first chunk, stop reading until the command exits or a second has passed, so that
+		// the rest of its output waits in its own queue, where an early process.exit() would drop it.
+		await new Promise<void>((resolve) =>
+			child.stdout.once('data', (c: Buffer) => {
+				chunks.push(c);
+				child.stdout.pause();
+				resolve();
+			})
+		);
+		await Promise.race([new Promise((r) => child.once('exit', r)), new Promise((r) => setTimeout(r, 1000))]);
+		child.stdout.on('data', (c: Buffer) => chunks.push(c));
+		child.stdout.resume();
+		const code = await exited;
+		const text = Buffer.concat(chunks).toString('utf8');
+		expect(stderr).toBe('');
+		expect(code).toBe(0);
+		expect(text.length).toBeGreaterThan(1_000_000); // well past the 64 KiB pipe buffer and the 128 KiB cut seen [der]
+		const audit = JSON.parse(text);
+		expect(audit.cycleCount).toBe(1500);
+		expect(audit.cycles).toHaveLength(1500);
+	}, 60_000);
 });

@@ -113,10 +113,14 @@ export async function main(argv: string[]): Promise<number> {
 	}
 }
 
+// Set the exit code and let Node end by itself: process.exit() would drop whatever a pipe has not yet
+// taken of a large --json output (writes to a pipe are asynchronous).
 main(process.argv.slice(2)).then(
-	(code) => process.exit(code),
+	(code) => {
+		process.exitCode = code;
+	},
 	(err) => {
 		process.stderr.write(`internal error: ${(err as Error).stack ?? err}\n`);
-		process.exit(1);
+		process.exitCode = 1;
 	}
 );
