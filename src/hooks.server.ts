@@ -4,16 +4,20 @@ import { authHandle } from '$lib/server/auth';
 import { config } from '$lib/server/config';
 import { userFromApiToken } from '$lib/server/api-tokens';
 import { startJobs, stopJobs } from '$lib/server/jobs';
-import { closeDb } from '$lib/server/db';
+import { closeDb, DATABASE_DOWN_MESSAGE, databaseDownSince, isDatabaseDown, markDatabaseDown } from '$lib/server/db';
+import { closeEnginePool } from '$lib/server/engine-pool';
 
 export const init: ServerInit = async () => {
 	// Fail fast with a clear message when the environment is incomplete.
 	void config.databaseUrl;
 	void config.authSecret;
+	// A stray rejection (a dropped connection nobody awaited) is logged, not allowed to stop the lab's server.
+	process.on('unhandledRejection', (reason) => console.error('[escapement] unhandled rejection:', reason));
 	await startJobs();
 	// adapter-node waits for the event loop to empty after SIGTERM: release the job queue and the pool so it can.
 	process.once('sveltekit:shutdown', async () => {
 		await stopJobs().catch(() => {});
+		await closeEnginePool().catch(() => {});
 		await closeDb().catch(() => {});
 	});
 };
@@ -44,9 +48,39 @@ const securityHeaders: Handle = async ({ event, resolve }) => {
 	return response;
 };
 
-export const handle = sequence(authHandle, identify, securityHeaders);
+/**
+ * While this process knows the database is down, every request but the health check answers 503 at once (instead of
+ * waiting for a connection timeout each); a request that finds it down on its way answers 503 too, not 500.
+ */
+const databaseGate: Handle = async ({ event, resolve }) => {
+	const isHealth = event.url.pathname === '/api/health';
+	if (!isHealth && databaseDownSince() !== null) return unavailable(event.url.pathname);
+	const response = await resolve(event);
+	if (response.status === 500 && databaseDownSince() !== null) {
+		const headers = new Headers(response.headers);
+		headers.set('retry-after', '5');
+		return new Response(response.body, { status: 503, headers });
+	}
+	return response;
+};
+
+function unavailable(pathname: string): Response {
+	const headers = { 'retry-after': '5', 'cache-control': 'no-store' };
+	if (pathname.startsWith('/api/'))
+		return Response.json({ error: { code: 'database_unavailable', message: DATABASE_DOWN_MESSAGE, details: null } }, { status: 503, headers });
+	return new Response(`<!doctype html><meta charset="utf-8"><title>Escapement: database unavailable</title><p>${DATABASE_DOWN_MESSAGE}</p>`, {
+		status: 503,
+		headers: { ...headers, 'content-type': 'text/html; charset=utf-8' }
+	});
+}
+
+export const handle = sequence(databaseGate, authHandle, identify, securityHeaders);
 
 export const handleError: HandleServerError = ({ error, event, status }) => {
+	if (isDatabaseDown(error)) {
+		markDatabaseDown(error);
+		return { message: DATABASE_DOWN_MESSAGE, code: '503' };
+	}
 	if (status !== 404) console.error(`[escapement] ${event.request.method} ${event.url.pathname}:`, error);
 	return { message: status === 404 ? 'Not found' : 'Something went wrong on our side. The error was logged.', code: String(status) };
 };

@@ -74,7 +74,7 @@ describe('review and sign-off with mail through the local SMTP sink', () => {
 		expect(stored.status).toBe('signed');
 		expect(stored.signature?.sha256).toBe(audit.sha256);
 		expect(stored.signature?.signerId).toBe(people.reviewer.id);
-		expect(verifyAudit(stored).matches).toBe(true);
+		expect((await verifyAudit(stored)).matches).toBe(true);
 		expect(stored.events.map((e) => e.kind)).toEqual(['submitted', 'signed']);
 	});
 

@@ -7,6 +7,8 @@ import { z, ZodError } from 'zod';
 import { SchemeInputError } from './schemes';
 import { EngineError } from '../engine';
 import { requireLab, requireUser, type Capability, type LabAccess } from './access';
+import { DATABASE_DOWN_MESSAGE, isDatabaseDown, markDatabaseDown } from './db';
+import { EngineBusyError } from './engine-pool';
 
 export interface ApiErrorBody {
 	error: { code: string; message: string; details: unknown };
@@ -33,6 +35,11 @@ export function apiRoute<E extends RequestEvent>(handler: (event: E) => Promise<
 			// The engine refuses schemes it cannot audit as entered (e.g. zero rates that split it into closed classes).
 			if (err instanceof EngineError) return apiError(422, 'engine', err.message);
 			if (err instanceof Response) throw err;
+			if (isDatabaseDown(err)) {
+				markDatabaseDown(err);
+				return apiError(503, 'database_unavailable', DATABASE_DOWN_MESSAGE);
+			}
+			if (err instanceof EngineBusyError) return apiError(503, 'busy', err.message);
 			console.error(`[escapement] API ${event.request.method} ${event.url.pathname}:`, err);
 			return apiError(500, 'internal', 'Something went wrong on our side. The error was logged.');
 		}

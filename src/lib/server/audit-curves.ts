@@ -39,10 +39,18 @@ export interface SweepPoint {
  * Velocity at `points` values of the load (pN, evenly spaced) or of one species' concentration (M, evenly in log10),
  * all other conditions as stored.
  */
-export function velocitySweep(scheme: Scheme, variable: 'force' | string, from: number, to: number, points: number): SweepPoint[] {
+export function velocitySweep(
+	scheme: Scheme,
+	variable: 'force' | string,
+	from: number,
+	to: number,
+	points: number,
+	onPoint?: (done: number, total: number) => void
+): SweepPoint[] {
 	const log = variable !== 'force';
-	return spacedPoints(from, to, points, log).map((x) => {
+	return spacedPoints(from, to, points, log).map((x, i) => {
 		const v = log ? velocityAt(withConditions(scheme, { concentrationsM: { [variable]: x } }), scheme.forcePN) : velocityAt(scheme, x);
+		onPoint?.(i + 1, points);
 		return { x, velocityNmPerS: Number.isFinite(v) ? v : null };
 	});
 }

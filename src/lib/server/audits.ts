@@ -6,13 +6,13 @@
 import { error } from '@sveltejs/kit';
 import { and, desc, eq, getTableColumns, sql } from 'drizzle-orm';
 import { z } from 'zod';
-import { db, schema } from './db';
+import { db, schema, type Tx } from './db';
 import { can, type LabAccess } from './access';
 import { logActivity } from './activity';
-import { auditHash } from './canonical';
+import { runEngine } from './engine-pool';
 import { getRevision, getScheme, isUuid, saveRevision } from './schemes';
 import type { AuditSummary } from '../audit-cycles';
-import { applyCorrection, auditScheme, withConditions, ENGINE_VERSION, type Audit, type Scheme, type Verdict } from '../engine';
+import { applyCorrection, type Audit, type Scheme, type Verdict } from '../engine';
 
 export const VERDICT_ORDER: readonly Verdict[] = ['violation', 'irreversible', 'unbalanced', 'consistent'];
 
@@ -30,47 +30,82 @@ export function worstVerdict(counts: Record<Verdict, number>): Verdict {
 	return VERDICT_ORDER.find((v) => counts[v] > 0) ?? 'consistent';
 }
 
-/** Runs the engine on a scheme at the given conditions, without storing anything (the live conditions panel). */
-export function previewAudit(scheme: Scheme, conditions: Conditions = {}): { inputs: Scheme; results: Audit } {
-	const inputs = withConditions(scheme, conditions);
-	return { inputs, results: auditScheme(inputs) };
+/** Runs the engine (in the pool) on a scheme at the given conditions, without storing anything (the live conditions panel). */
+export async function previewAudit(scheme: Scheme, conditions: Conditions = {}): Promise<{ results: Audit }> {
+	const { results } = await runEngine('preview', { scheme, conditions });
+	return { results: results! };
 }
 
-export async function runAudit(access: LabAccess, schemeId: string, opts: { revision?: number; conditions?: Conditions } = {}) {
+/** The same as JSON text, for the API (the web server neither parses nor serializes it). */
+export async function previewAuditJson(scheme: Scheme, conditions: Conditions = {}): Promise<string> {
+	return (await runEngine('preview', { scheme, conditions, asJson: true })).resultsJson!;
+}
+
+/** The columns of a stored audit other than its (large) inputs and results. */
+const { inputs: _inputs, results: _results, ...auditRowColumns } = getTableColumns(schema.audits);
+export type AuditRow = { [K in keyof typeof auditRowColumns]: (typeof schema.audits.$inferSelect)[K] };
+
+export type AuditEngineOutcome = Awaited<ReturnType<typeof runEngine<'audit'>>>;
+
+/** The engine's part of an audit: the revision at the conditions, audited and hashed in the pool. */
+export async function computeAudit(scheme: Scheme, conditions: Conditions | undefined, onProgress?: (p: { fraction: number; stage: string }) => void) {
+	return runEngine('audit', { scheme, conditions }, { onProgress });
+}
+
+/** The revision an audit request names (the newest by default), or 404. */
+export async function auditedRevision(access: LabAccess, schemeId: string, revisionNumber?: number) {
 	if (!can(access.role, 'model')) error(403, { message: 'Only modellers and lab leads run audits.', code: 'forbidden' });
 	const scheme = await getScheme(access.lab.id, schemeId);
-	const revision = opts.revision ? await getRevision(access.lab.id, schemeId, opts.revision) : scheme.latest;
-	const { inputs, results } = previewAudit(revision.scheme as Scheme, opts.conditions);
-	const counts = results.verdictCounts;
-	const sha256 = auditHash({ inputs, results, engineVersion: ENGINE_VERSION });
-	return db.transaction(async (tx) => {
-		const [row] = await tx
+	const revision = revisionNumber ? await getRevision(access.lab.id, schemeId, revisionNumber) : scheme.latest;
+	return { scheme, revision };
+}
+
+export async function runAudit(access: LabAccess, schemeId: string, opts: { revision?: number; conditions?: Conditions } = {}): Promise<AuditRow> {
+	const { scheme, revision } = await auditedRevision(access, schemeId, opts.revision);
+	const outcome = await computeAudit(revision.scheme as Scheme, opts.conditions);
+	return storeAudit(access, { schemeId, schemeName: scheme.name, revisionId: revision.id, revisionNumber: revision.number }, outcome);
+}
+
+/**
+ * Stores a computed audit with its activity entry in one transaction. The results go to PostgreSQL as the JSON text
+ * the engine thread wrote, and only the small columns come back.
+ */
+export async function storeAudit(
+	access: Pick<LabAccess, 'lab' | 'user'>,
+	target: { schemeId: string; schemeName: string; revisionId: string; revisionNumber: number },
+	outcome: AuditEngineOutcome,
+	tx?: Tx
+): Promise<AuditRow> {
+	const counts = outcome.verdictCounts;
+	const write = async (t: Tx) => {
+		const [row] = await t
 			.insert(schema.audits)
 			.values({
 				labId: access.lab.id,
-				schemeId,
-				revisionId: revision.id,
-				inputs,
-				results,
-				engineVersion: ENGINE_VERSION,
-				sha256,
+				schemeId: target.schemeId,
+				revisionId: target.revisionId,
+				inputs: outcome.inputs,
+				results: sql`${outcome.resultsJson}::jsonb`,
+				engineVersion: outcome.engineVersion,
+				sha256: outcome.sha256,
 				verdict: worstVerdict(counts),
 				verdictCounts: counts,
 				createdBy: access.user.id
 			})
-			.returning();
+			.returning(auditRowColumns);
 		await logActivity(
 			{
 				labId: access.lab.id,
 				actorId: access.user.id,
 				kind: 'audit-run',
-				summary: `Audited "${scheme.name}" revision ${revision.number}: ${worstVerdict(counts)}`,
-				details: { auditId: row.id, schemeId, revision: revision.number }
+				summary: `Audited "${target.schemeName}" revision ${target.revisionNumber}: ${worstVerdict(counts)}`,
+				details: { auditId: row.id, schemeId: target.schemeId, revision: target.revisionNumber }
 			},
-			tx
+			t
 		);
 		return row;
-	});
+	};
+	return tx ? write(tx) : db.transaction(write);
 }
 
 export async function listAudits(labId: string, schemeId: string) {
@@ -151,10 +186,17 @@ export type StoredAudit = Awaited<ReturnType<typeof getAudit>>;
 
 /**
  * Recomputes the hash from the stored inputs and results and compares it with the stored hash (and, for a signed
- * audit, with the hash the reviewer signed).
+ * audit, with the hash the reviewer signed). The engine pool reads them as text and hashes them off the event loop.
  */
-export function verifyAudit(audit: StoredAudit): { matches: boolean; recomputed: string; stored: string; signed: string | null } {
-	const recomputed = auditHash({ inputs: audit.inputs, results: audit.results, engineVersion: audit.engineVersion });
+export async function verifyAudit(
+	audit: Pick<StoredAudit, 'id' | 'sha256' | 'engineVersion' | 'signature'>
+): Promise<{ matches: boolean; recomputed: string; stored: string; signed: string | null }> {
+	const [text] = await db
+		.select({ inputsJson: sql<string>`${schema.audits.inputs}::text`, resultsJson: sql<string>`${schema.audits.results}::text` })
+		.from(schema.audits)
+		.where(eq(schema.audits.id, audit.id));
+	if (!text) error(404, { message: 'No such audit in this lab.', code: 'not_found' });
+	const { sha256: recomputed } = await runEngine('rehash', { ...text, engineVersion: audit.engineVersion });
 	const signed = audit.signature?.sha256 ?? null;
 	return { matches: recomputed === audit.sha256 && (signed === null || signed === recomputed), recomputed, stored: audit.sha256, signed };
 }

@@ -70,7 +70,7 @@ export async function signAudit(access: LabAccess, auditId: string, input: { pas
 	const audit = await requireReviewable(access, auditId);
 	const [me] = await db.select().from(schema.users).where(eq(schema.users.id, access.user.id));
 	if (!(await verifyPassword(input.password, me?.passwordHash))) error(403, { message: 'That password is not right. Enter your own password to sign.', code: 'bad_password' });
-	const check = verifyAudit(audit);
+	const check = await verifyAudit(audit);
 	if (!check.matches) error(409, { message: 'The stored audit no longer matches its hash; it cannot be signed. Run the audit again.', code: 'hash_mismatch' });
 	const signerName = me.name ?? me.email;
 	await db.transaction(async (tx) => {

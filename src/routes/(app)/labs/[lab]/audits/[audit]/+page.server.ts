@@ -3,7 +3,8 @@ import { z } from 'zod';
 import { can, requireLab, requireUser, requireUserPage } from '$lib/server/access';
 import { getAudit, getAuditSummary, verifyAudit, adoptCorrection } from '$lib/server/audits';
 import { returnAudit, signAudit, submitForReview } from '$lib/server/reviews';
-import { TREE_MAX_STATES, speciesOf, stallForceOrNull } from '$lib/server/audit-curves';
+import { TREE_MAX_STATES, speciesOf } from '$lib/server/audit-curves';
+import { runEngine } from '$lib/server/engine-pool';
 import { auditCycleTable } from '$lib/server/audit-cycles';
 import { cyclePage, CYCLE_INLINE_MAX, CYCLE_PAGE_SIZE, CYCLE_SORT_DEFAULT } from '$lib/audit-cycles';
 import type { Actions, PageServerLoad } from './$types';
@@ -48,7 +49,7 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 			highlighted,
 			violationCover: table.violationCover
 		},
-		stallForcePN: stallForceOrNull(audit.inputs),
+		stallForcePN: (await runEngine('stallForce', { scheme: audit.inputs })).stallForcePN,
 		species: speciesOf(audit.inputs),
 		treeMaxStates: TREE_MAX_STATES,
 		review: {
@@ -113,6 +114,6 @@ export const actions: Actions = {
 		const user = requireUser(locals);
 		const access = await requireLab(user, params.lab, 'read');
 		const audit = await getAudit(access.lab.id, params.audit);
-		return { action: 'verify', verification: { ...verifyAudit(audit), checkedAt: new Date().toISOString() } };
+		return { action: 'verify', verification: { ...(await verifyAudit(audit)), checkedAt: new Date().toISOString() } };
 	}
 };

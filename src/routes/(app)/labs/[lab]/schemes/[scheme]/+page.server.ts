@@ -14,7 +14,7 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 	let preview: Audit | null = null;
 	let previewError: string | null = null;
 	try {
-		preview = previewAudit(scheme.latest.scheme).results;
+		preview = (await previewAudit(scheme.latest.scheme)).results;
 	} catch (err) {
 		if (!(err instanceof EngineError)) throw err;
 		previewError = err.message;

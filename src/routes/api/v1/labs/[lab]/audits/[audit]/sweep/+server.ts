@@ -2,7 +2,8 @@ import { json } from '@sveltejs/kit';
 import { z } from 'zod';
 import { apiError, apiRoute, labFromEvent } from '$lib/server/api';
 import { getAudit } from '$lib/server/audits';
-import { SWEEP_MAX_POINTS, speciesOf, stallForceOrNull, velocitySweep } from '$lib/server/audit-curves';
+import { SWEEP_MAX_POINTS, speciesOf } from '$lib/server/audit-curves';
+import { runEngine } from '$lib/server/engine-pool';
 import type { RequestHandler } from './$types';
 
 /** A malformed query answers 400 naming the parameter and what to give. */
@@ -59,12 +60,13 @@ export const GET: RequestHandler = apiRoute(async (event) => {
 			{ path: query.from < -1000 ? 'from' : 'to', message: 'out of range for a load in pN' }
 		]);
 	}
+	const { points, stallForcePN } = await runEngine('sweep', { scheme, variable: query.variable, from: query.from, to: query.to, points: query.points });
 	return json({
 		variable: query.variable,
 		unit: isForce ? 'pN' : 'M',
 		scale: isForce ? 'linear' : 'log',
-		points: velocitySweep(scheme, query.variable, query.from, query.to, query.points),
-		stallForcePN: stallForceOrNull(scheme),
+		points,
+		stallForcePN,
 		conditions: { temperatureK: scheme.temperatureK, forcePN: scheme.forcePN, concentrationsM: scheme.concentrationsM }
 	});
 });

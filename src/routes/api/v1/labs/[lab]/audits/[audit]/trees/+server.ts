@@ -2,7 +2,8 @@ import { json } from '@sveltejs/kit';
 import { z } from 'zod';
 import { apiError, apiRoute, labFromEvent } from '$lib/server/api';
 import { getAudit } from '$lib/server/audits';
-import { TREE_MAX_STATES, treesInto } from '$lib/server/audit-curves';
+import { TREE_MAX_STATES } from '$lib/server/audit-curves';
+import { runEngine } from '$lib/server/engine-pool';
 import type { RequestHandler } from './$types';
 
 /** A malformed query answers 400 naming the parameter and what to give. */
@@ -33,5 +34,5 @@ export const GET: RequestHandler = apiRoute(async (event) => {
 		return apiError(400, 'invalid', `"${state}" is not a state of this scheme; use one of: ${states.join(', ')}.`, [
 			{ path: 'state', message: `unknown state "${state}"` }
 		]);
-	return json(treesInto(audit.inputs, state));
+	return json(await runEngine('trees', { scheme: audit.inputs, stateId: state }));
 });

@@ -7,5 +7,5 @@ import type { RequestHandler } from './$types';
 export const GET: RequestHandler = apiRoute(async (event) => {
 	const access = await labFromEvent(event, 'read');
 	const audit = await getAudit(access.lab.id, event.params.audit);
-	return json({ auditId: audit.id, status: audit.status, ...verifyAudit(audit) });
+	return json({ auditId: audit.id, status: audit.status, ...(await verifyAudit(audit)) });
 });

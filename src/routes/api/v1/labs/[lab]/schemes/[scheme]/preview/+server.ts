@@ -2,7 +2,7 @@ import { json } from '@sveltejs/kit';
 import { z, ZodError } from 'zod';
 import { apiError, apiRoute, labFromEvent } from '$lib/server/api';
 import { EngineError } from '$lib/engine';
-import { conditionsInput, previewAudit } from '$lib/server/audits';
+import { conditionsInput, previewAuditJson } from '$lib/server/audits';
 import { getRevision, getScheme, validScheme } from '$lib/server/schemes';
 import { LIMITS } from '$lib/server/sheets/layout';
 import type { RequestHandler } from './$types';
@@ -79,7 +79,7 @@ export const POST: RequestHandler = apiRoute(async (event) => {
 			: (await getScheme(access.lab.id, event.params.scheme)).latest.scheme;
 	}
 	try {
-		return json(previewAudit(scheme, body.conditions).results);
+		return new Response(await previewAuditJson(scheme, body.conditions), { headers: { 'content-type': 'application/json' } });
 	} catch (err) {
 		// The engine refuses some conditions (e.g. a steady state it cannot reach); say so instead of a 500.
 		if (err instanceof EngineError) return apiError(422, 'engine', err.message);

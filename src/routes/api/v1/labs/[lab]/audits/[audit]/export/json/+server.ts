@@ -19,7 +19,7 @@ export const GET: RequestHandler = apiRoute(async (event) => {
 			signature: audit.signature
 				? { signer: audit.signature.signerName, signedAt: audit.signature.signedAt, comment: audit.signature.comment, sha256: audit.signature.sha256 }
 				: null,
-			verification: verifyAudit(audit),
+			verification: await verifyAudit(audit),
 			caution: 'An audit checks the scheme as entered, not the biology behind it.',
 			inputs: audit.inputs,
 			results: audit.results
