@@ -126,12 +126,13 @@ describe('preview of an edited scheme', () => {
 		expect(payload.error.details.map((d: Json) => d.path)).toContain('scheme');
 	});
 
-	it('refuses a scheme over the step limit before auditing it (413)', async () => {
+	it('refuses a scheme over the step limit before auditing it, naming the limit (422)', async () => {
 		const big = stroke() as Json;
 		big.steps = Array.from({ length: 5001 }, (_, i) => ({ id: `s${i}`, from: 'E1', to: 'E2', kForward: 1, kBackward: 1 }));
 		const res = await preview({ scheme: big });
-		expect(res.status).toBe(413);
-		expect((await body<Json>(res)).error.details[0].path).toBe('steps');
+		expect(res.status).toBe(422);
+		const details = (await body<Json>(res)).error.details;
+		expect(details).toEqual([expect.objectContaining({ path: 'steps', limit: 'steps', message: expect.stringMatching(/5001 steps; the limit is 5000/) })]);
 	});
 
 	it('lets every member preview an edit, a reader included (nothing is stored)', async () => {

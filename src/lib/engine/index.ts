@@ -1,5 +1,5 @@
 /** Escapement's audit engine: the public API (re-exports only; one algorithm per module). */
-export { SCHEME_FORMAT, AUDIT_FORMAT, ENGINE_VERSION, EngineError, parseScheme, formatPath, formatEquation, schemeSchema } from './scheme';
+export { SCHEME_FORMAT, AUDIT_FORMAT, ENGINE_VERSION, SCHEME_LIMITS, EngineError, parseScheme, formatPath, formatEquation, schemeSchema } from './scheme';
 export type { Scheme, SchemeState, SchemeStep, SchemeReaction, SchemeError, ParseResult } from './scheme';
 export { BOLTZMANN_J_PER_K, AVOGADRO_PER_MOL, GAS_CONSTANT_J_PER_MOL_K, thermalEnergyPNnm, molarThermalEnergyKJPerMol, kJPerMolToPNnm } from './units';
 export { effectiveRates, rateMatrix, withConditions } from './rates';

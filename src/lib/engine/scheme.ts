@@ -15,6 +15,13 @@ export const SCHEME_FORMAT = 'escapement.scheme/1';
 export const AUDIT_FORMAT = 'escapement.audit/1';
 export const ENGINE_VERSION = '0.1.0';
 
+/**
+ * The largest scheme Escapement takes, everywhere (import, JSON API, editor): the audit's steady state is O(states³)
+ * and a page lists every step, so past these the work and the page no longer stay bounded. A connected scheme has at
+ * least states − 1 steps.
+ */
+export const SCHEME_LIMITS = { states: 5000, steps: 5000 } as const;
+
 export interface SchemeState {
 	id: string;
 	label?: string;
@@ -58,6 +65,8 @@ export interface Scheme {
 export interface SchemeError {
 	path: string;
 	message: string;
+	/** set when the scheme is refused for its size: which of SCHEME_LIMITS it passes */
+	limit?: keyof typeof SCHEME_LIMITS;
 }
 
 export type ParseResult = { ok: true; scheme: Scheme } | { ok: false; errors: SchemeError[] };
@@ -271,7 +280,25 @@ function crossCheck(raw: Loose): SchemeError[] {
 	return errors;
 }
 
+/** Counts past SCHEME_LIMITS, checked before anything else so an oversized document is never validated item by item. */
+function sizeErrors(input: unknown): SchemeError[] {
+	if (!isObject(input)) return [];
+	const errors: SchemeError[] = [];
+	for (const key of ['states', 'steps'] as const) {
+		const list = input[key];
+		if (Array.isArray(list) && list.length > SCHEME_LIMITS[key])
+			errors.push({
+				path: key,
+				limit: key,
+				message: `${list.length} ${key}; the limit is ${SCHEME_LIMITS[key]} ${key} per scheme. Split the scheme into parts, or lump fast steps together.`
+			});
+	}
+	return errors;
+}
+
 export function parseScheme(input: unknown): ParseResult {
+	const tooLarge = sizeErrors(input);
+	if (tooLarge.length) return { ok: false, errors: tooLarge };
 	const parsed = schemeSchema.safeParse(input);
 	const errors: SchemeError[] = parsed.success
 		? []

@@ -18,8 +18,11 @@ export interface SourceFile {
 }
 
 export class SchemeInputError extends Error {
-	constructor(public readonly issues: { path: string; message: string }[]) {
+	/** 422 when the scheme passes a size limit (the same answer as the JSON API), else 400 (a form to correct) */
+	readonly status: 400 | 422;
+	constructor(public readonly issues: { path: string; message: string; limit?: string }[]) {
 		super(`The scheme has ${issues.length} problem${issues.length === 1 ? '' : 's'}: ${issues.map((i) => `${i.path}: ${i.message}`).join('; ')}`);
+		this.status = issues.some((i) => i.limit) ? 422 : 400;
 	}
 }
 

@@ -4,6 +4,8 @@
  * readers use this one description, so what the template says is what the import reads.
  */
 
+import { SCHEME_LIMITS } from '../../engine/scheme';
+
 export const SHEETS = {
 	readMe: 'Read me',
 	conditions: 'Conditions',
@@ -17,9 +19,10 @@ export const EXAMPLE_PREFIX = 'Example ';
 
 export const LIMITS = {
 	fileBytes: 10 * 1024 * 1024,
-	steps: 5000,
+	/** the scheme's own limit (SCHEME_LIMITS), so an imported table is never refused later by the editor */
+	steps: SCHEME_LIMITS.steps,
 	/** One-row-per-direction tables have up to two rows per step. */
-	rowsPerSheet: 2 * 5000 + 100,
+	rowsPerSheet: 2 * SCHEME_LIMITS.steps + 100,
 	cellsPerWorkbook: 400_000,
 	unzippedBytes: 64 * 1024 * 1024,
 	zipEntries: 500,

@@ -93,7 +93,7 @@ export const actions: Actions = {
 		try {
 			saved = await saveRevision(access, params.scheme, { scheme: document, note: note.data });
 		} catch (err) {
-			if (err instanceof SchemeInputError) return fail(400, { form: 'save' as const, message: err.message, issues: err.issues });
+			if (err instanceof SchemeInputError) return fail(err.status, { form: 'save' as const, message: err.message, issues: err.issues });
 			if (isHttpError(err)) return fail(err.status, { form: 'save' as const, message: err.body.message });
 			throw err;
 		}

@@ -31,7 +31,7 @@ function metaOf(form: FormData) {
 /** createScheme's refusals (a name already used, a role too small) as form failures instead of an error page. */
 function refused(err: unknown, form: 'upload' | 'empty', extra: Record<string, unknown>) {
 	if (isHttpError(err)) return fail(err.status, { form, ...extra, message: err.body.message });
-	if (err instanceof SchemeInputError) return fail(400, { form, ...extra, message: err.message, issues: err.issues });
+	if (err instanceof SchemeInputError) return fail(err.status, { form, ...extra, message: err.message, issues: err.issues });
 	throw err;
 }
 

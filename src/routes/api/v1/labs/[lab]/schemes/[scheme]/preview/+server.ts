@@ -4,7 +4,6 @@ import { apiError, apiRoute, labFromEvent } from '$lib/server/api';
 import { EngineError } from '$lib/engine';
 import { conditionsInput, previewAuditJson } from '$lib/server/audits';
 import { getRevision, getScheme, validScheme } from '$lib/server/schemes';
-import { LIMITS } from '$lib/server/sheets/layout';
 import type { RequestHandler } from './$types';
 
 /** Largest JSON body a preview reads: room for a scheme at the import's step limit with every field filled in. */
@@ -43,18 +42,6 @@ async function readBody(request: Request): Promise<{ ok: true; value: unknown } 
 	}
 }
 
-/** Counts that make a document too large to audit on request, checked before the engine reads it. */
-function sizeProblems(doc: unknown): { path: string; message: string }[] {
-	if (!doc || typeof doc !== 'object') return [];
-	const problems: { path: string; message: string }[] = [];
-	for (const key of ['steps', 'states'] as const) {
-		const list = (doc as Record<string, unknown>)[key];
-		if (Array.isArray(list) && list.length > LIMITS.steps)
-			problems.push({ path: key, message: `${list.length} ${key}; a preview takes at most ${LIMITS.steps}.` });
-	}
-	return problems;
-}
-
 /**
  * The audit at changed conditions, computed and answered as escapement.audit/1 without storing anything, of either
  * - an edited scheme document sent as `scheme` (what the scheme page's unsaved tables hold), validated like a save:
@@ -70,9 +57,8 @@ export const POST: RequestHandler = apiRoute(async (event) => {
 	let scheme;
 	if (body.scheme !== undefined) {
 		await getScheme(access.lab.id, event.params.scheme); // 404 for a scheme this lab does not have
-		const tooBig = sizeProblems(body.scheme);
-		if (tooBig.length) return apiError(413, 'too_large', 'The scheme is too large to preview; see details.', tooBig);
-		scheme = validScheme(body.scheme); // SchemeInputError → 422 with the JSON path of every problem
+		// SchemeInputError → 422 with the JSON path of every problem; past SCHEME_LIMITS it names the limit first
+		scheme = validScheme(body.scheme);
 	} else {
 		scheme = body.revision
 			? (await getRevision(access.lab.id, event.params.scheme, body.revision)).scheme
