@@ -1,10 +1,11 @@
 /**
- * Lab members: invitations by e-mail, role changes and removal, by the lab lead. A lab always keeps at least one lead.
+ * Lab members: invitations by e-mail, role changes and removal, by the lab lead. A lab always keeps at least one lead,
+ * also when two leads change each other's roles at the same moment (the lab's row is locked for each change).
  */
 import { error } from '@sveltejs/kit';
 import { randomBytes } from 'node:crypto';
 import { and, eq, gt, isNull, ne, count } from 'drizzle-orm';
-import { db, schema } from './db';
+import { db, schema, type Tx } from './db';
 import { can, ROLE_LABELS, type LabAccess } from './access';
 import type { LabRole } from './db/schema';
 import { logActivity } from './activity';
@@ -47,20 +48,25 @@ export async function invite(access: LabAccess, email: string, role: LabRole): P
 		.where(and(eq(schema.labMembers.labId, access.lab.id), eq(schema.users.email, address)));
 	if (already) error(409, { message: `${address} is already a member of ${access.lab.name}. Change their role in the table instead.`, code: 'conflict' });
 	const token = randomBytes(24).toString('base64url');
-	await db.insert(schema.invitations).values({
-		labId: access.lab.id,
-		email: address,
-		role,
-		tokenHash: hashToken(token),
-		invitedBy: access.user.id,
-		expiresAt: new Date(Date.now() + INVITATION_DAYS * 86400_000)
-	});
 	const link = `${config.origin}/invite/${token}`;
-	await logActivity({ labId: access.lab.id, actorId: access.user.id, kind: 'member-invited', summary: `Invited ${address} as ${ROLE_LABELS[role]}` });
-	await queueMail({
-		to: address,
-		subject: `You are invited to ${access.lab.name} on Escapement`,
-		text: `${access.user.name ?? access.user.email} invites you to join ${access.lab.name} on Escapement as ${ROLE_LABELS[role]}.\n\nAccept the invitation: ${link}\n\nThe link is valid for ${INVITATION_DAYS} days.`
+	await db.transaction(async (tx) => {
+		await tx.insert(schema.invitations).values({
+			labId: access.lab.id,
+			email: address,
+			role,
+			tokenHash: hashToken(token),
+			invitedBy: access.user.id,
+			expiresAt: new Date(Date.now() + INVITATION_DAYS * 86400_000)
+		});
+		await logActivity({ labId: access.lab.id, actorId: access.user.id, kind: 'member-invited', summary: `Invited ${address} as ${ROLE_LABELS[role]}` }, tx);
+		await queueMail(
+			{
+				to: address,
+				subject: `You are invited to ${access.lab.name} on Escapement`,
+				text: `${access.user.name ?? access.user.email} invites you to join ${access.lab.name} on Escapement as ${ROLE_LABELS[role]}.\n\nAccept the invitation: ${link}\n\nThe link is valid for ${INVITATION_DAYS} days.`
+			},
+			tx
+		);
 	});
 	return { link };
 }
@@ -108,44 +114,61 @@ export async function acceptInvitation(token: string, who: { signedInUserId: str
 	});
 }
 
-/** Refuses a change that would leave the lab without a lead. */
-async function keepOneLead(labId: string, leavingUserId: string): Promise<void> {
-	const [{ n }] = await db
+/**
+ * Runs a change of membership with the lab's row locked, so that changes of one lab's members happen one after the
+ * other: the acting lead and the member are read again under the lock (of two leads demoting each other, the second
+ * finds they are no longer lead), and the last-lead rule counts what is committed. The loser of a race gets 409.
+ */
+async function withMemberLock<T>(access: LabAccess, userId: string, change: (tx: Tx, member: { role: LabRole; name: string | null; email: string }) => Promise<T>): Promise<T> {
+	requireLead(access);
+	return db.transaction(async (tx) => {
+		await tx.select({ id: schema.labs.id }).from(schema.labs).where(eq(schema.labs.id, access.lab.id)).for('update');
+		const [actor] = await tx
+			.select({ role: schema.labMembers.role })
+			.from(schema.labMembers)
+			.where(and(eq(schema.labMembers.labId, access.lab.id), eq(schema.labMembers.userId, access.user.id)));
+		if (actor?.role !== 'lead') error(409, { message: 'Your role in this lab changed a moment ago: you are no longer its lead. Reload the page.', code: 'conflict' });
+		const [member] = await tx
+			.select({ role: schema.labMembers.role, name: schema.users.name, email: schema.users.email })
+			.from(schema.labMembers)
+			.innerJoin(schema.users, eq(schema.users.id, schema.labMembers.userId))
+			.where(and(eq(schema.labMembers.labId, access.lab.id), eq(schema.labMembers.userId, userId)));
+		if (!member) error(404, { message: 'No such member in this lab.', code: 'not_found' });
+		return change(tx, member);
+	});
+}
+
+/** Refuses a change that would leave the lab without a lead (called under the lab's lock). */
+async function keepOneLead(tx: Tx, labId: string, leavingUserId: string): Promise<void> {
+	const [{ n }] = await tx
 		.select({ n: count() })
 		.from(schema.labMembers)
 		.where(and(eq(schema.labMembers.labId, labId), eq(schema.labMembers.role, 'lead'), ne(schema.labMembers.userId, leavingUserId)));
 	if (n === 0) error(409, { message: 'A lab needs at least one lead. Make someone else lead first.', code: 'last_lead' });
 }
 
-/** A member of this lab, for the lead to change or remove; 404 otherwise. */
-async function memberToChange(access: LabAccess, userId: string) {
-	requireLead(access);
-	const [member] = await db
-		.select({ role: schema.labMembers.role, name: schema.users.name, email: schema.users.email })
-		.from(schema.labMembers)
-		.innerJoin(schema.users, eq(schema.users.id, schema.labMembers.userId))
-		.where(and(eq(schema.labMembers.labId, access.lab.id), eq(schema.labMembers.userId, userId)));
-	if (!member) error(404, { message: 'No such member in this lab.', code: 'not_found' });
-	return member;
-}
-
 export async function changeRole(access: LabAccess, userId: string, role: LabRole) {
-	const member = await memberToChange(access, userId);
-	if (member.role === role) return;
-	if (member.role === 'lead') await keepOneLead(access.lab.id, userId);
-	await db.update(schema.labMembers).set({ role }).where(and(eq(schema.labMembers.labId, access.lab.id), eq(schema.labMembers.userId, userId)));
-	await logActivity({
-		labId: access.lab.id,
-		actorId: access.user.id,
-		kind: 'role-changed',
-		summary: `Changed ${member.name ?? member.email} from ${ROLE_LABELS[member.role]} to ${ROLE_LABELS[role]}`,
-		details: { userId, from: member.role, to: role }
+	await withMemberLock(access, userId, async (tx, member) => {
+		if (member.role === role) return;
+		if (member.role === 'lead') await keepOneLead(tx, access.lab.id, userId);
+		await tx.update(schema.labMembers).set({ role }).where(and(eq(schema.labMembers.labId, access.lab.id), eq(schema.labMembers.userId, userId)));
+		await logActivity(
+			{
+				labId: access.lab.id,
+				actorId: access.user.id,
+				kind: 'role-changed',
+				summary: `Changed ${member.name ?? member.email} from ${ROLE_LABELS[member.role]} to ${ROLE_LABELS[role]}`,
+				details: { userId, from: member.role, to: role }
+			},
+			tx
+		);
 	});
 }
 
 export async function removeMember(access: LabAccess, userId: string) {
-	const member = await memberToChange(access, userId);
-	if (member.role === 'lead') await keepOneLead(access.lab.id, userId);
-	await db.delete(schema.labMembers).where(and(eq(schema.labMembers.labId, access.lab.id), eq(schema.labMembers.userId, userId)));
-	await logActivity({ labId: access.lab.id, actorId: access.user.id, kind: 'member-removed', summary: `Removed ${member.name ?? member.email} from the lab` });
+	await withMemberLock(access, userId, async (tx, member) => {
+		if (member.role === 'lead') await keepOneLead(tx, access.lab.id, userId);
+		await tx.delete(schema.labMembers).where(and(eq(schema.labMembers.labId, access.lab.id), eq(schema.labMembers.userId, userId)));
+		await logActivity({ labId: access.lab.id, actorId: access.user.id, kind: 'member-removed', summary: `Removed ${member.name ?? member.email} from the lab` }, tx);
+	});
 }

@@ -2,11 +2,13 @@
  * Review and sign-off. A modeller submits an audit with a note; the lab's reviewers are mailed and see it in their
  * queue. A reviewer who is not the audit's author signs it after entering their password again, or returns it with
  * comments. The signature records signer, time, comment and the audit's SHA-256; from then on PostgreSQL refuses
- * any change to the audit, its signature or its history.
+ * any change to the audit, its signature or its history. Each state change is one transaction with a status-checked
+ * UPDATE (of two racing requests one wins, the other gets 409), and its mail is queued in that same transaction.
  */
 import { error } from '@sveltejs/kit';
-import { and, desc, eq, sql } from 'drizzle-orm';
-import { db, schema } from './db';
+import { and, desc, eq, inArray, sql } from 'drizzle-orm';
+import { db, schema, type Tx } from './db';
+import type { AuditStatus } from './db/schema';
 import { can, type LabAccess } from './access';
 import { logActivity } from './activity';
 import { getAudit, verifyAudit } from './audits';
@@ -26,6 +28,21 @@ async function reviewersOf(labId: string) {
 		.where(and(eq(schema.labMembers.labId, labId), eq(schema.labMembers.role, 'reviewer')));
 }
 
+/**
+ * Moves the audit's status from one of `from` to `to` inside the transaction, or answers 409: the UPDATE checks the
+ * status itself, so of two racing requests the second waits for the first's row lock, then finds the status moved.
+ */
+async function moveStatus(tx: Tx, auditId: string, from: AuditStatus[], to: AuditStatus, whenMoved: string): Promise<void> {
+	const moved = await tx
+		.update(schema.audits)
+		.set({ status: to })
+		.where(and(eq(schema.audits.id, auditId), inArray(schema.audits.status, from)))
+		.returning({ id: schema.audits.id });
+	if (moved.length === 1) return;
+	const [now] = await tx.select({ status: schema.audits.status }).from(schema.audits).where(eq(schema.audits.id, auditId));
+	error(409, { message: `${whenMoved} It is now ${now?.status ?? 'gone'}; reload the page to see its current state.`, code: 'conflict' });
+}
+
 export async function submitForReview(access: LabAccess, auditId: string, note: string) {
 	if (!can(access.role, 'model')) error(403, { message: 'Only modellers and lab leads submit audits for review.', code: 'forbidden' });
 	const audit = await getAudit(access.lab.id, auditId);
@@ -33,27 +50,31 @@ export async function submitForReview(access: LabAccess, auditId: string, note: 
 	if (audit.status === 'signed') error(409, { message: 'This audit is signed; run a new audit to review changes.', code: 'conflict' });
 	const reviewers = (await reviewersOf(access.lab.id)).filter((r) => r.id !== audit.createdBy);
 	if (reviewers.length === 0) error(409, { message: 'The lab has no reviewer other than the audit’s author. Ask the lab lead to give someone the reviewer role.', code: 'no_reviewer' });
+	const counts = audit.verdictCounts;
 	await db.transaction(async (tx) => {
-		await tx.update(schema.audits).set({ status: 'submitted' }).where(eq(schema.audits.id, auditId));
+		await moveStatus(tx, auditId, ['draft', 'returned'], 'submitted', 'This audit was submitted or signed by someone else a moment ago.');
 		await tx.insert(schema.reviewEvents).values({ auditId, kind: 'submitted', actorId: access.user.id, note });
 		await logActivity(
 			{ labId: access.lab.id, actorId: access.user.id, kind: 'audit-submitted', summary: `Submitted the audit of "${audit.schemeName}" r${audit.revision} for review`, details: { auditId } },
 			tx
 		);
-	});
-	const counts = audit.verdictCounts;
-	await queueMail({
-		to: reviewers.map((r) => r.email),
-		subject: `Review requested: ${audit.schemeName} (revision ${audit.revision})`,
-		text: [
-			`${access.user.name ?? access.user.email} asks you to review an audit in ${access.lab.name}.`,
-			'',
-			`Scheme: ${audit.schemeName}, revision ${audit.revision}`,
-			`Cycles: ${audit.results.cycleCount}${audit.results.cyclesComplete ? '' : ' (enumeration capped)'} — ${counts.consistent} consistent, ${counts.violation} violation, ${counts.irreversible} irreversible, ${counts.unbalanced} unbalanced`,
-			note ? `Note: ${note}` : '',
-			'',
-			`Open the audit: ${auditUrl(access, auditId)}`
-		].join('\n')
+		// In the same transaction: the reviewers are mailed exactly when the submission commits.
+		await queueMail(
+			{
+				to: reviewers.map((r) => r.email),
+				subject: `Review requested: ${audit.schemeName} (revision ${audit.revision})`,
+				text: [
+					`${access.user.name ?? access.user.email} asks you to review an audit in ${access.lab.name}.`,
+					'',
+					`Scheme: ${audit.schemeName}, revision ${audit.revision}`,
+					`Cycles: ${audit.results.cycleCount}${audit.results.cyclesComplete ? '' : ' (enumeration capped)'} — ${counts.consistent} consistent, ${counts.violation} violation, ${counts.irreversible} irreversible, ${counts.unbalanced} unbalanced`,
+					note ? `Note: ${note}` : '',
+					'',
+					`Open the audit: ${auditUrl(access, auditId)}`
+				].join('\n')
+			},
+			tx
+		);
 	});
 	return { notified: reviewers.length };
 }
@@ -74,18 +95,21 @@ export async function signAudit(access: LabAccess, auditId: string, input: { pas
 	if (!check.matches) error(409, { message: 'The stored audit no longer matches its hash; it cannot be signed. Run the audit again.', code: 'hash_mismatch' });
 	const signerName = me.name ?? me.email;
 	await db.transaction(async (tx) => {
-		await tx.update(schema.audits).set({ status: 'signed' }).where(eq(schema.audits.id, auditId));
+		await moveStatus(tx, auditId, ['submitted'], 'signed', 'This audit was signed or returned by someone else a moment ago.');
 		await tx.insert(schema.signatures).values({ auditId, signerId: me.id, signerName, comment: input.comment, sha256: audit.sha256 });
 		await tx.insert(schema.reviewEvents).values({ auditId, kind: 'signed', actorId: me.id, note: input.comment });
 		await logActivity(
 			{ labId: access.lab.id, actorId: me.id, kind: 'audit-signed', summary: `Signed the audit of "${audit.schemeName}" r${audit.revision}`, details: { auditId, sha256: audit.sha256 } },
 			tx
 		);
-	});
-	await queueMail({
-		to: audit.createdByEmail,
-		subject: `Signed: ${audit.schemeName} (revision ${audit.revision})`,
-		text: `${signerName} signed your audit of ${audit.schemeName}, revision ${audit.revision}.\n${input.comment ? `\nComment: ${input.comment}\n` : ''}\nSHA-256: ${audit.sha256}\n\n${auditUrl(access, auditId)}`
+		await queueMail(
+			{
+				to: audit.createdByEmail,
+				subject: `Signed: ${audit.schemeName} (revision ${audit.revision})`,
+				text: `${signerName} signed your audit of ${audit.schemeName}, revision ${audit.revision}.\n${input.comment ? `\nComment: ${input.comment}\n` : ''}\nSHA-256: ${audit.sha256}\n\n${auditUrl(access, auditId)}`
+			},
+			tx
+		);
 	});
 }
 
@@ -93,17 +117,20 @@ export async function returnAudit(access: LabAccess, auditId: string, comment: s
 	if (!comment.trim()) error(400, { message: 'Say what should change: a returned audit needs a comment.', code: 'comment_required' });
 	const audit = await requireReviewable(access, auditId);
 	await db.transaction(async (tx) => {
-		await tx.update(schema.audits).set({ status: 'returned' }).where(eq(schema.audits.id, auditId));
+		await moveStatus(tx, auditId, ['submitted'], 'returned', 'This audit was signed or returned by someone else a moment ago.');
 		await tx.insert(schema.reviewEvents).values({ auditId, kind: 'returned', actorId: access.user.id, note: comment });
 		await logActivity(
 			{ labId: access.lab.id, actorId: access.user.id, kind: 'audit-returned', summary: `Returned the audit of "${audit.schemeName}" r${audit.revision}`, details: { auditId } },
 			tx
 		);
-	});
-	await queueMail({
-		to: audit.createdByEmail,
-		subject: `Returned with comments: ${audit.schemeName} (revision ${audit.revision})`,
-		text: `${access.user.name ?? access.user.email} returned your audit of ${audit.schemeName}, revision ${audit.revision}.\n\nComments:\n${comment}\n\n${auditUrl(access, auditId)}`
+		await queueMail(
+			{
+				to: audit.createdByEmail,
+				subject: `Returned with comments: ${audit.schemeName} (revision ${audit.revision})`,
+				text: `${access.user.name ?? access.user.email} returned your audit of ${audit.schemeName}, revision ${audit.revision}.\n\nComments:\n${comment}\n\n${auditUrl(access, auditId)}`
+			},
+			tx
+		);
 	});
 }
 

@@ -5,7 +5,9 @@
  * Queues are created before anything is sent (a send to a missing queue is dropped).
  */
 import PgBoss from 'pg-boss';
+import type pg from 'pg';
 import { config } from '../config';
+import type { Tx } from '../db';
 import { sendMail, type OutgoingMail } from '../mail/send';
 
 export const QUEUES = { mail: 'mail' } as const;
@@ -42,10 +44,24 @@ export function startJobs(): Promise<void> {
 	return working;
 }
 
-/** Queue a message; the web server's worker sends it, retrying on failure. */
-export async function queueMail(mail: OutgoingMail): Promise<void> {
+/**
+ * pg-boss's `db` option for a Drizzle transaction: the job is inserted on the transaction's own connection, so it
+ * commits or rolls back with the change it announces (no mail lost after a crash, none sent for a rolled-back change).
+ */
+function throughTransaction(tx: Tx): { executeSql(text: string, values: unknown[]): Promise<{ rows: unknown[] }> } {
+	const client = (tx as unknown as { session?: { client?: pg.PoolClient } }).session?.client;
+	if (!client || typeof client.query !== 'function') throw new Error('jobs: cannot reach the connection of this transaction to queue mail in it');
+	return { executeSql: (text, values) => client.query(text, values) };
+}
+
+/**
+ * Queue a message; the web server's worker sends it, retrying on failure. With `tx`, the message is queued inside
+ * that transaction and exists exactly when the transaction commits.
+ */
+export async function queueMail(mail: OutgoingMail, tx?: Tx): Promise<void> {
 	const boss = await getBoss();
-	const id = await boss.send(QUEUES.mail, mail, { retryLimit: 5, retryDelay: 5, retryBackoff: true });
+	const options = { retryLimit: 5, retryDelay: 5, retryBackoff: true, ...(tx ? { db: throughTransaction(tx) } : {}) };
+	const id = await boss.send(QUEUES.mail, mail, options);
 	if (!id) throw new Error(`jobs: the mail queue did not accept the message to ${String(mail.to)}; is the "${QUEUES.mail}" queue created?`);
 }
 
