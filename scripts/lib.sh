@@ -108,7 +108,9 @@ ensure_secret() {
   # A stable random AUTH_SECRET per data folder.
   local f="$ROOT/.data/auth-secret"
   mkdir -p "$ROOT/.data"
-  [ -s "$f" ] || node -e "process.stdout.write(require('crypto').randomBytes(32).toString('base64url'))" > "$f"
+  # Readable by its owner only: whoever reads it can mint session cookies.
+  [ -s "$f" ] || (umask 077; node -e "process.stdout.write(require('crypto').randomBytes(32).toString('base64url'))" > "$f")
+  chmod 600 "$f"
   export AUTH_SECRET="${AUTH_SECRET:-$(cat "$f")}"
 }
 

@@ -12,6 +12,8 @@ declare global {
 			user: { id: string; email: string; name: string | null } | null;
 			/** How the person was identified: the browser session or an API token. */
 			via: 'session' | 'token' | null;
+			/** The server-side session of a browser request (revoked at sign-out). */
+			sessionId?: string | null;
 		}
 	}
 }
@@ -19,6 +21,8 @@ declare global {
 declare module '@auth/sveltekit' {
 	interface Session {
 		user: { id: string } & DefaultSession['user'];
+		/** The server-side session (user_sessions.id) the cookie names. */
+		sid?: string;
 	}
 }
 

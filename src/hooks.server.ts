@@ -1,4 +1,4 @@
-import type { Handle, HandleServerError, ServerInit } from '@sveltejs/kit';
+import { json, text, type Handle, type HandleServerError, type ServerInit } from '@sveltejs/kit';
 import { sequence } from '@sveltejs/kit/hooks';
 import { authHandle } from '$lib/server/auth';
 import { config } from '$lib/server/config';
@@ -6,6 +6,7 @@ import { userFromApiToken } from '$lib/server/api-tokens';
 import { startJobs, stopJobs } from '$lib/server/jobs';
 import { closeDb, DATABASE_DOWN_MESSAGE, databaseDownSince, isDatabaseDown, markDatabaseDown } from '$lib/server/db';
 import { closeEnginePool } from '$lib/server/engine-pool';
+import { logRefusal } from '$lib/server/activity';
 
 export const init: ServerInit = async () => {
 	// Fail fast with a clear message when the environment is incomplete.
@@ -22,6 +23,32 @@ export const init: ServerInit = async () => {
 	});
 };
 
+const SAFE_METHODS = new Set(['GET', 'HEAD', 'OPTIONS']);
+const FORM_TYPES = ['application/x-www-form-urlencoded', 'multipart/form-data', 'text/plain'];
+
+/**
+ * Cross-site request check, in place of SvelteKit's (svelte.config.js trusts every origin): a request that a browser
+ * could send from another site with the person's cookies — a form body, or any body next to a cookie — must come
+ * from this origin. A request with `Authorization: Bearer` carries no ambient credential (a foreign page cannot set
+ * that header without a CORS preflight, which this server never grants), so scripts upload as the API docs show.
+ */
+const sameOrigin: Handle = async ({ event, resolve }) => {
+	const { request, url } = event;
+	if (SAFE_METHODS.has(request.method) || request.headers.has('authorization')) return resolve(event);
+	const type = (request.headers.get('content-type') ?? '').split(';')[0].trim().toLowerCase();
+	// Without a cookie only the sign-in and invitation forms matter (a planted sign-in); the API then answers 401.
+	const ambient = request.headers.has('cookie') || (FORM_TYPES.includes(type) && !url.pathname.startsWith('/api/'));
+	const origin = request.headers.get('origin');
+	if (ambient && origin !== url.origin) {
+		await logRefusal(event, 'cross-site', `Refused a ${request.method} to ${url.pathname} from ${origin ? `the origin ${origin.slice(0, 100)}` : 'an unknown origin (no Origin header)'}`);
+		const message = 'Cross-site form submissions are refused; submit the form from Escapement itself, or send an API token as "Authorization: Bearer …".';
+		return url.pathname.startsWith('/api/')
+			? json({ error: { code: 'cross_site', message, details: null } }, { status: 403 })
+			: text(message, { status: 403 });
+	}
+	return resolve(event);
+};
+
 /** Personal API tokens (Authorization: Bearer …) identify scripts; the session cookie identifies browsers. */
 const identify: Handle = async ({ event, resolve }) => {
 	event.locals.user = null;
@@ -35,6 +62,7 @@ const identify: Handle = async ({ event, resolve }) => {
 		if (session?.user?.id && session.user.email) {
 			event.locals.user = { id: session.user.id, email: session.user.email, name: session.user.name ?? null };
 			event.locals.via = 'session';
+			event.locals.sessionId = session.sid ?? null;
 		}
 	}
 	return resolve(event);
@@ -42,6 +70,8 @@ const identify: Handle = async ({ event, resolve }) => {
 
 const securityHeaders: Handle = async ({ event, resolve }) => {
 	const response = await resolve(event);
+	// Signed-in pages and their data hold lab records: no shared or back-button cache keeps them after sign-out.
+	if (event.locals.user && !response.headers.has('cache-control')) response.headers.set('cache-control', 'private, no-store');
 	response.headers.set('X-Content-Type-Options', 'nosniff');
 	response.headers.set('Referrer-Policy', 'same-origin');
 	response.headers.set('X-Frame-Options', 'DENY');
@@ -74,7 +104,7 @@ function unavailable(pathname: string): Response {
 	});
 }
 
-export const handle = sequence(databaseGate, authHandle, identify, securityHeaders);
+export const handle = sequence(databaseGate, sameOrigin, authHandle, identify, securityHeaders);
 
 export const handleError: HandleServerError = ({ error, event, status }) => {
 	if (isDatabaseDown(error)) {

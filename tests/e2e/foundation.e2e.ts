@@ -65,7 +65,7 @@ describe('password guessing', () => {
 		}
 		await signIn(page, 'jun.adeyemi@kestrel.example');
 		const alert = await page.getByRole('alert').textContent();
-		expect(alert).toMatch(/Too many failed sign-ins for this address\. Wait \d+ minutes?/);
+		expect(alert).toMatch(/Too many wrong passwords for this address\. Wait \d+ minutes?/);
 		expect(page.url()).toMatch(/\/signin/);
 		await anonymous.close();
 	});

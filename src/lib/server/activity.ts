@@ -1,5 +1,6 @@
 /** The append-only activity log: who did what, per lab. Rows are never updated or deleted (a trigger enforces it). */
 import { eq } from 'drizzle-orm';
+import { RateLimiterMemory } from 'rate-limiter-flexible';
 import { db, schema, type Tx } from './db';
 
 export type ActivityKind =
@@ -15,7 +16,10 @@ export type ActivityKind =
 	| 'audit-returned'
 	| 'audit-signed'
 	| 'token-created'
-	| 'token-revoked';
+	| 'token-revoked'
+	| 'sign-in-failed'
+	| 'sign-failed'
+	| 'request-refused';
 
 export async function logActivity(
 	entry: { labId: string | null; actorId: string | null; kind: ActivityKind; summary: string; details?: Record<string, unknown> },
@@ -32,4 +36,44 @@ export async function logActivityForUser(userId: string, kind: ActivityKind, sum
 		return;
 	}
 	await db.insert(schema.activityLog).values(memberships.map((m) => ({ labId: m.labId, actorId: userId, kind, summary, details: {} })));
+}
+
+/** At most this many refusals a minute per kind reach the log, so that a flood of bad requests cannot fill it. */
+const REFUSALS_LOGGED_PER_MINUTE = 120;
+const refusalBudget = new RateLimiterMemory({ points: REFUSALS_LOGGED_PER_MINUTE, duration: 60, keyPrefix: 'refusal-log' });
+
+/** False when this kind of refusal was logged too often in the last minute. */
+export async function withinLogBudget(reason: string): Promise<boolean> {
+	try {
+		await refusalBudget.consume(reason);
+		return true;
+	} catch {
+		return false;
+	}
+}
+
+/**
+ * A refused request (cross-site form, hostile or oversized input, a failed sign-in): who, where and why, without
+ * the input itself. Never throws: a failing log must not turn a clean 4xx into a 500.
+ */
+export async function logRefusal(
+	event: { url: URL; request: Request; locals?: Partial<App.Locals>; getClientAddress?: () => string },
+	reason: string,
+	summary: string,
+	extra: { labId?: string | null; kind?: ActivityKind; actorId?: string | null } = {}
+): Promise<void> {
+	if (!(await withinLogBudget(reason))) return;
+	let address: string | null = null;
+	try {
+		address = event.getClientAddress?.() ?? null;
+	} catch {
+		address = null;
+	}
+	await logActivity({
+		labId: extra.labId ?? null,
+		actorId: extra.actorId ?? event.locals?.user?.id ?? null,
+		kind: extra.kind ?? 'request-refused',
+		summary: summary.slice(0, 300),
+		details: { reason, method: event.request.method, path: event.url.pathname.slice(0, 300), address }
+	}).catch((err) => console.warn('[escapement] activity: could not log a refusal:', (err as Error).message));
 }

@@ -1,6 +1,6 @@
-/** Personal API tokens: shown once on creation, stored as SHA-256 only, revocable. */
+/** Personal API tokens: shown once on creation, stored as SHA-256 only, revocable, optionally expiring. */
 import { createHash, randomBytes } from 'node:crypto';
-import { and, desc, eq, isNull } from 'drizzle-orm';
+import { and, desc, eq, gt, isNull, or } from 'drizzle-orm';
 import { db, schema } from './db';
 import { logActivityForUser } from './activity';
 
@@ -10,14 +10,19 @@ export function hashToken(token: string): string {
 	return createHash('sha256').update(token).digest('hex');
 }
 
-export async function createApiToken(userId: string, name: string): Promise<{ id: string; token: string }> {
+/** Lifetimes offered on the account page, in days; null: until revoked. */
+export const TOKEN_LIFETIMES_DAYS = [30, 90, 365, null] as const;
+
+export async function createApiToken(userId: string, name: string, lifetimeDays: number | null = null): Promise<{ id: string; token: string; expiresAt: Date | null }> {
 	const token = PREFIX + randomBytes(24).toString('base64url');
+	const expiresAt = lifetimeDays === null ? null : new Date(Date.now() + lifetimeDays * 86_400_000);
 	const [row] = await db
 		.insert(schema.apiTokens)
-		.values({ userId, name, tokenHash: hashToken(token), prefix: token.slice(0, PREFIX.length + 6) })
+		.values({ userId, name, tokenHash: hashToken(token), prefix: token.slice(0, PREFIX.length + 6), expiresAt })
 		.returning({ id: schema.apiTokens.id });
-	await logActivityForUser(userId, 'token-created', `Created the API token "${name}" (${token.slice(0, PREFIX.length + 6)}…)`);
-	return { id: row.id, token };
+	const until = expiresAt ? `, valid until ${expiresAt.toISOString().slice(0, 10)}` : '';
+	await logActivityForUser(userId, 'token-created', `Created the API token "${name}" (${token.slice(0, PREFIX.length + 6)}…${until})`);
+	return { id: row.id, token, expiresAt };
 }
 
 /** A person's tokens, newest first; never the token itself (only its first characters). */
@@ -29,7 +34,8 @@ export async function listApiTokens(userId: string) {
 			prefix: schema.apiTokens.prefix,
 			createdAt: schema.apiTokens.createdAt,
 			lastUsedAt: schema.apiTokens.lastUsedAt,
-			revokedAt: schema.apiTokens.revokedAt
+			revokedAt: schema.apiTokens.revokedAt,
+			expiresAt: schema.apiTokens.expiresAt
 		})
 		.from(schema.apiTokens)
 		.where(eq(schema.apiTokens.userId, userId))
@@ -49,13 +55,20 @@ export async function revokeApiToken(userId: string, tokenId: string): Promise<b
 	return true;
 }
 
+/** The token's owner while the token is live (not revoked, not expired); null otherwise. */
 export async function userFromApiToken(token: string): Promise<{ id: string; email: string; name: string | null } | null> {
 	if (!token.startsWith(PREFIX)) return null;
 	const [row] = await db
 		.select({ tokenId: schema.apiTokens.id, id: schema.users.id, email: schema.users.email, name: schema.users.name })
 		.from(schema.apiTokens)
 		.innerJoin(schema.users, eq(schema.users.id, schema.apiTokens.userId))
-		.where(and(eq(schema.apiTokens.tokenHash, hashToken(token)), isNull(schema.apiTokens.revokedAt)));
+		.where(
+			and(
+				eq(schema.apiTokens.tokenHash, hashToken(token)),
+				isNull(schema.apiTokens.revokedAt),
+				or(isNull(schema.apiTokens.expiresAt), gt(schema.apiTokens.expiresAt, new Date()))
+			)
+		);
 	if (!row) return null;
 	await db.update(schema.apiTokens).set({ lastUsedAt: new Date() }).where(eq(schema.apiTokens.id, row.tokenId));
 	return { id: row.id, email: row.email, name: row.name };

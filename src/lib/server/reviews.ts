@@ -12,7 +12,7 @@ import type { AuditStatus } from './db/schema';
 import { can, type LabAccess } from './access';
 import { logActivity } from './activity';
 import { getAudit, verifyAudit } from './audits';
-import { verifyPassword } from './passwords';
+import { requirePassword } from './rate-limit';
 import { queueMail } from './jobs';
 import { config } from './config';
 
@@ -90,7 +90,7 @@ async function requireReviewable(access: LabAccess, auditId: string) {
 export async function signAudit(access: LabAccess, auditId: string, input: { password: string; comment: string }) {
 	const audit = await requireReviewable(access, auditId);
 	const [me] = await db.select().from(schema.users).where(eq(schema.users.id, access.user.id));
-	if (!(await verifyPassword(input.password, me?.passwordHash))) error(403, { message: 'That password is not right. Enter your own password to sign.', code: 'bad_password' });
+	await requirePassword({ email: me?.email ?? access.user.email, userId: access.user.id, passwordHash: me?.passwordHash }, input.password, 'sign', 'That password is not right. Enter your own password to sign.');
 	const check = await verifyAudit(audit);
 	if (!check.matches) error(409, { message: 'The stored audit no longer matches its hash; it cannot be signed. Run the audit again.', code: 'hash_mismatch' });
 	const signerName = me.name ?? me.email;

@@ -46,8 +46,10 @@ export async function listSchemes(
 ) {
 	const pageSize = Math.min(Math.max(opts.pageSize ?? 20, 1), 100);
 	const page = Math.max(opts.page ?? 1, 1);
+	// The search text is literal: % and _ would be LIKE wildcards, backslash is LIKE's escape character.
+	const pattern = opts.q ? `%${opts.q.replace(/[\\%_]/g, '\\$&')}%` : '';
 	const where = opts.q
-		? and(eq(schema.schemes.labId, labId), or(ilike(schema.schemes.name, `%${opts.q}%`), ilike(schema.schemes.description, `%${opts.q}%`)))
+		? and(eq(schema.schemes.labId, labId), or(ilike(schema.schemes.name, pattern), ilike(schema.schemes.description, pattern)))
 		: eq(schema.schemes.labId, labId);
 	const column = { name: schema.schemes.name, created: schema.schemes.createdAt, updated: schema.schemes.updatedAt }[opts.sort ?? 'updated'];
 	const order = (opts.dir ?? (opts.sort === 'name' ? 'asc' : 'desc')) === 'asc' ? asc(column) : desc(column);

@@ -1,22 +1,19 @@
 import { fail, isRedirect, redirect } from '@sveltejs/kit';
 import { signIn } from '$lib/server/auth';
-import { signInBlockedFor } from '$lib/server/rate-limit';
+import { pausedMessage, signInBlockedFor } from '$lib/server/rate-limit';
+import { safeNextPath } from '$lib/server/next-path';
 import type { Actions, PageServerLoad } from './$types';
 
 const MESSAGES: Record<string, string> = {
 	CredentialsSignin: 'That e-mail address and password do not match an account. Check both and try again.',
-	AccessDenied: 'There is no Escapement account for that address. Ask your lab lead for an invitation.',
+	AccessDenied: 'That sign-in link cannot be used. Ask for a new one, or ask your lab lead for an invitation.',
 	Verification: 'That sign-in link has expired or was already used. Ask for a new one.',
 	EmailSignin: 'The sign-in link could not be sent. Try again in a moment, or sign in with your password.'
 };
 
-/** Only same-site paths are allowed as a destination after sign-in. */
-function safeNext(value: string | null): string {
-	return value && value.startsWith('/') && !value.startsWith('//') ? value : '/labs';
-}
 
 export const load: PageServerLoad = ({ locals, url }) => {
-	const next = safeNext(url.searchParams.get('next') ?? url.searchParams.get('callbackUrl'));
+	const next = safeNextPath(url.searchParams.get('next') ?? url.searchParams.get('callbackUrl'));
 	if (locals.user) redirect(303, next);
 	const code = url.searchParams.get('error');
 	return { next, message: code ? (MESSAGES[code] ?? 'Sign-in failed. Try again.') : null };
@@ -33,13 +30,12 @@ export const actions: Actions = {
 			// which part of the credentials was wrong.
 			const { type, code } = err as { type?: string; code?: string };
 			if (type === 'CredentialsSignin' && code === 'paused') {
-				const wait = Math.max(1, Math.ceil((await signInBlockedFor(String(form.get('email') ?? ''))) / 60));
-				const message = `Too many failed sign-ins for this address. Wait ${wait} minute${wait === 1 ? '' : 's'}, or ask for a sign-in link by e-mail.`;
-				return fail(429, { message, email: String(form.get('email') ?? ''), mode: 'password' as const });
+				const message = pausedMessage(await signInBlockedFor(String(form.get('email') ?? '')));
+				return fail(429, { message, email: String(form.get('email') ?? '').slice(0, 254), mode: 'password' as const });
 			}
 			if (type && type in MESSAGES) {
 				const mode = form.get('providerId') === 'email-link' ? ('link' as const) : ('password' as const);
-				return fail(400, { message: MESSAGES[type], email: String(form.get('email') ?? ''), mode });
+				return fail(400, { message: MESSAGES[type], email: String(form.get('email') ?? '').slice(0, 254), mode });
 			}
 			throw err;
 		}

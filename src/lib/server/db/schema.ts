@@ -17,7 +17,9 @@ import {
 	boolean,
 	customType,
 	index,
-	uniqueIndex
+	uniqueIndex,
+	varchar,
+	bigint
 } from 'drizzle-orm/pg-core';
 
 const bytea = customType<{ data: Uint8Array; driverData: Buffer }>({
@@ -93,10 +95,38 @@ export const apiTokens = pgTable(
 		prefix: text('prefix').notNull(),
 		createdAt: created(),
 		lastUsedAt: timestamp('last_used_at', { withTimezone: true, mode: 'date' }),
-		revokedAt: timestamp('revoked_at', { withTimezone: true, mode: 'date' })
+		revokedAt: timestamp('revoked_at', { withTimezone: true, mode: 'date' }),
+		/** After this moment the token no longer works; null: until revoked. */
+		expiresAt: timestamp('expires_at', { withTimezone: true, mode: 'date' })
 	},
 	(t) => [index('api_tokens_user_idx').on(t.userId)]
 );
+
+/**
+ * One row per browser sign-in; the session cookie (a signed JWT) names its row, and every request checks it. Sign-out
+ * and a password change revoke rows, so a copied cookie stops working; `expiresAt` is fixed at sign-in (no renewal).
+ */
+export const userSessions = pgTable(
+	'user_sessions',
+	{
+		id: text('id').primaryKey(),
+		userId: text('user_id')
+			.notNull()
+			.references(() => users.id, { onDelete: 'cascade' }),
+		method: text('method').notNull(),
+		createdAt: created(),
+		expiresAt: timestamp('expires_at', { withTimezone: true, mode: 'date' }).notNull(),
+		revokedAt: timestamp('revoked_at', { withTimezone: true, mode: 'date' })
+	},
+	(t) => [index('user_sessions_user_idx').on(t.userId)]
+);
+
+/** Counters of rate-limiter-flexible's RateLimiterPostgres (failed passwords, link requests): they survive a restart. */
+export const rateLimits = pgTable('rate_limits', {
+	key: varchar('key', { length: 255 }).primaryKey(),
+	points: integer('points').notNull().default(0),
+	expire: bigint('expire', { mode: 'number' })
+});
 
 // ---------------------------------------------------------------- labs and roles
 

@@ -9,7 +9,7 @@ const listQuery = z.object({
 	q: z.string().trim().max(200).optional(),
 	sort: z.enum(SCHEME_SORTS).optional(),
 	dir: z.enum(['asc', 'desc']).optional(),
-	page: z.coerce.number().int().min(1).optional(),
+	page: z.coerce.number().int().min(1).max(100_000, 'page must be at most 100000').optional(),
 	pageSize: z.coerce.number().int().min(1).max(100).optional()
 });
 

@@ -1,0 +1,18 @@
+CREATE TABLE "rate_limits" (
+	"key" varchar(255) PRIMARY KEY NOT NULL,
+	"points" integer DEFAULT 0 NOT NULL,
+	"expire" bigint
+);
+--> statement-breakpoint
+CREATE TABLE "user_sessions" (
+	"id" text PRIMARY KEY NOT NULL,
+	"user_id" text NOT NULL,
+	"method" text NOT NULL,
+	"created_at" timestamp with time zone DEFAULT now() NOT NULL,
+	"expires_at" timestamp with time zone NOT NULL,
+	"revoked_at" timestamp with time zone
+);
+--> statement-breakpoint
+ALTER TABLE "api_tokens" ADD COLUMN "expires_at" timestamp with time zone;--> statement-breakpoint
+ALTER TABLE "user_sessions" ADD CONSTRAINT "user_sessions_user_id_users_id_fk" FOREIGN KEY ("user_id") REFERENCES "public"."users"("id") ON DELETE cascade ON UPDATE no action;--> statement-breakpoint
+CREATE INDEX "user_sessions_user_idx" ON "user_sessions" USING btree ("user_id");
