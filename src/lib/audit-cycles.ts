@@ -158,3 +158,19 @@ export function violationCover(cycles: AuditCycle[]): AuditCycle[] {
 	}
 	return cover;
 }
+
+/** Cycles the scheme page lists beside its live results. */
+export const NOTABLE_CYCLES = 12;
+const NOTABLE_ORDER: readonly Verdict[] = ['violation', 'unbalanced', 'irreversible', 'consistent'];
+
+/**
+ * The `count` most notable cycles, worst verdict first, then by |net flux|, with their positions in `cycles`. The
+ * scheme page's load sends only these (an audit lists up to 20,000 cycles), and the page lists a live preview the same way.
+ */
+export function notableCycles(cycles: AuditCycle[], count = NOTABLE_CYCLES): { cycle: AuditCycle; index: number }[] {
+	const rank = (v: Verdict) => NOTABLE_ORDER.indexOf(v);
+	return cycles
+		.map((cycle, index) => ({ cycle, index }))
+		.sort((a, b) => rank(a.cycle.verdict) - rank(b.cycle.verdict) || Math.abs(b.cycle.netFlux ?? 0) - Math.abs(a.cycle.netFlux ?? 0) || a.index - b.index)
+		.slice(0, count);
+}

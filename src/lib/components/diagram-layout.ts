@@ -23,6 +23,20 @@ export const LAYOUT_DEFAULTS = {
 };
 export type LayoutOptions = typeof LAYOUT_DEFAULTS;
 
+/**
+ * The largest scheme the diagram draws. Past it the labels and arcs cannot be told apart on a page, and the force
+ * layout (O(ticks · n log n)) and thousands of SVG elements would stall the page: the diagram says so and draws nothing.
+ */
+export const DIAGRAM_LIMITS = { states: 120, steps: 300 } as const;
+
+/** Why a scheme is too large to draw, or null when it is drawn. */
+export function diagramRefusal(input: { states: unknown[]; steps: unknown[] }): string | null {
+	const { states, steps } = DIAGRAM_LIMITS;
+	if (input.states.length <= states && input.steps.length <= steps) return null;
+	return `${input.states.length.toLocaleString('en')} states and ${input.steps.length.toLocaleString('en')} steps are more than a diagram can draw legibly (up to ${states} states and ${steps} steps), so none is drawn; the tables list every state and step.`;
+}
+
+
 export interface Point {
 	x: number;
 	y: number;

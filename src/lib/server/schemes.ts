@@ -190,8 +190,9 @@ export async function getScheme(labId: string, schemeId: string) {
 		.where(and(eq(schema.schemes.id, schemeId), eq(schema.schemes.labId, labId)));
 	if (!row) error(404, { message: 'No such scheme in this lab.', code: 'not_found' });
 	const [latest] = await db
-		.select(revisionColumns)
+		.select({ ...revisionColumns, createdByName: schema.users.name })
 		.from(schema.schemeRevisions)
+		.innerJoin(schema.users, eq(schema.users.id, schema.schemeRevisions.createdBy))
 		.where(eq(schema.schemeRevisions.schemeId, schemeId))
 		.orderBy(desc(schema.schemeRevisions.number))
 		.limit(1);
@@ -209,6 +210,12 @@ const revisionColumns = {
 	createdBy: schema.schemeRevisions.createdBy,
 	createdAt: schema.schemeRevisions.createdAt
 };
+
+/** How many revisions a scheme has (the scheme page shows the count, not the list). */
+export async function countRevisions(schemeId: string): Promise<number> {
+	const [row] = await db.select({ n: count() }).from(schema.schemeRevisions).where(eq(schema.schemeRevisions.schemeId, schemeId));
+	return row?.n ?? 0;
+}
 
 export async function listRevisions(labId: string, schemeId: string) {
 	await getScheme(labId, schemeId);

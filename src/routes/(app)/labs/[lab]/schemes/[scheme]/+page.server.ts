@@ -2,24 +2,41 @@ import { fail, isHttpError, redirect } from '@sveltejs/kit';
 import { z } from 'zod';
 import { can, requireLab, requireUser, requireUserPage } from '$lib/server/access';
 import { conditionsInput, listAudits, previewAudit, runAudit } from '$lib/server/audits';
-import { getScheme, listRevisions, saveRevision, SchemeInputError } from '$lib/server/schemes';
+import { countRevisions, getScheme, saveRevision, SchemeInputError } from '$lib/server/schemes';
 import { EngineError, type Audit } from '$lib/engine';
+import { notableCycles, violationCover } from '$lib/audit-cycles';
 import type { Actions, PageServerLoad } from './$types';
+
+/** The largest scheme whose live results the page computes on opening. */
+const LIVE_PREVIEW_MAX = { states: 200, steps: 400 };
 
 export const load: PageServerLoad = async ({ locals, params, url }) => {
 	const user = requireUserPage(locals, url);
 	const { lab, role } = await requireLab(user, params.lab, 'read');
 	const scheme = await getScheme(lab.id, params.scheme);
-	const [revisions, audits] = await Promise.all([listRevisions(lab.id, params.scheme), listAudits(lab.id, params.scheme)]);
+	const [revisionCount, audits] = await Promise.all([countRevisions(scheme.id), listAudits(lab.id, params.scheme)]);
 	let preview: Audit | null = null;
 	let previewError: string | null = null;
-	try {
-		preview = (await previewAudit(scheme.latest.scheme)).results;
-	} catch (err) {
-		if (!(err instanceof EngineError)) throw err;
-		previewError = err.message;
+	let previewSkipped: string | null = null;
+	const doc = scheme.latest.scheme;
+	if (doc.steps.length > LIVE_PREVIEW_MAX.steps || doc.states.length > LIVE_PREVIEW_MAX.states) {
+		// An audit of thousands of steps takes minutes of engine time: not on every visit, only when asked for.
+		previewSkipped = `This scheme has ${doc.states.length.toLocaleString('en')} states and ${doc.steps.length.toLocaleString('en')} steps; live results are computed on opening only up to ${LIVE_PREVIEW_MAX.states} states and ${LIVE_PREVIEW_MAX.steps} steps. Compute them on request, or run an audit (stored, with every cycle on its page).`;
+	} else {
+		try {
+			const { results } = await previewAudit(doc);
+			// Only the notable cycles go with the page, and violating ones that pass through every violating step (for
+			// the diagram): the notable ones of this shorter list are the same. The rest grows with states + steps.
+			const kept = new Set(notableCycles(results.cycles).map((n) => n.cycle));
+			for (const c of violationCover(results.cycles)) kept.add(c);
+			const index = new Map(results.cycles.map((c, i) => [c, i]));
+			const cycles = results.cycles.filter((c) => kept.has(c));
+			preview = { ...results, cycles, cycleAffinitiesKT: cycles.map((c) => results.cycleAffinitiesKT[index.get(c)!]) };
+		} catch (err) {
+			if (!(err instanceof EngineError)) throw err;
+			previewError = err.message;
+		}
 	}
-	const latest = revisions.find((r) => r.number === scheme.latest.number);
 	return {
 		scheme: {
 			id: scheme.id,
@@ -35,12 +52,13 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 			sourceFileName: scheme.latest.sourceFileName,
 			sourceSha256: scheme.latest.sourceSha256,
 			createdAt: scheme.latest.createdAt,
-			createdByName: latest?.createdByName ?? null
+			createdByName: scheme.latest.createdByName ?? null
 		},
-		revisionCount: revisions.length,
+		revisionCount,
 		audits,
 		preview,
 		previewError,
+		previewSkipped,
 		may: { model: can(role, 'model') }
 	};
 };
