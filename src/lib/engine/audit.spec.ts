@@ -5,7 +5,18 @@ import { completeScheme, freeEnergyScheme } from './random-scheme';
 import { AUDIT_FORMAT } from './scheme';
 
 const REQUIRED_TOP = ['format', 'states', 'steps', 'cycles', 'cycleCount', 'cyclesComplete', 'observables'];
-const EXTRA_TOP = ['engineVersion', 'conditions', 'verdictCounts', 'cycleAffinitiesKT', 'basisVerdicts', 'findings', 'cautions', 'correction'];
+const EXTRA_TOP = [
+	'engineVersion',
+	'conditions',
+	'verdictCounts',
+	'cycleAffinitiesKT',
+	'basisVerdicts',
+	'consistencyComplete',
+	'consistencyScope',
+	'findings',
+	'cautions',
+	'correction'
+];
 const CYCLE_KEYS = [
 	'states',
 	'steps',
@@ -41,8 +52,14 @@ describe('auditScheme', () => {
 		expect(audit.cyclesComplete).toBe(false);
 		expect(audit.cycleCount).toBe(50);
 		expect(audit.basisVerdicts).toHaveLength(21 - 7 + 1); // steps − states + 1 [pub: Kirchhoff]
-		expect(audit.findings.some((f) => f.kind === 'cycle-cap')).toBe(true);
-		expect(audit.verdictCounts.consistent).toBe(15); // unit rates, no driving: every cycle balanced
+		expect(audit.findings.find((f) => f.kind === 'cycle-cap')?.message).toMatch(/cap maxCycles = 50 was reached/);
+		// unit rates, no driving: every cycle consistent; counted are the 50 listed cycles and the basis cycles not among them
+		const listed = new Set(audit.cycles.map((c) => c.steps.map((s) => s.id).sort().join(',')));
+		const unlistedBasis = audit.basisVerdicts.filter((b) => !listed.has(b.steps.map((s) => s.id).sort().join(','))).length;
+		expect(audit.verdictCounts).toEqual({ consistent: 50 + unlistedBasis, violation: 0, irreversible: 0, unbalanced: 0 });
+		// an exactly consistent basis decides every cycle [pub: Kolmogorov 1936; Wegscheider 1901]
+		expect(audit.consistencyComplete).toBe(true);
+		expect(audit.consistencyScope.deviationBoundLog10).toBeLessThan(1e-12);
 	});
 
 	it('judges a large scheme on its basis only with maxCycles 0', () => {

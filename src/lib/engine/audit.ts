@@ -7,12 +7,16 @@
  * Cost: O(n³) for the steady state + O(cycles · (length·species + m³)) for the cycles (m = states off a
  * cycle) + O(basis · n) for the basis.
  * Invariants: the JSON keys of issue 3 exactly, plus the documented extra keys `engineVersion`,
- * `conditions`, `verdictCounts`, `cycleAffinitiesKT` (parallel to `cycles`), `basisVerdicts`, `findings`,
- * `cautions` and `correction` (null when no cycle is a violation). Non-finite numbers become null.
+ * `conditions`, `verdictCounts` (verdicts of every distinct cycle judged: the listed cycles and the basis
+ * cycles), `cycleAffinitiesKT` (parallel to `cycles`), `basisVerdicts`, `consistencyComplete` (true only when
+ * no cycle is left undecided: every cycle listed, or the basis deviations sum to within the tolerance, which
+ * bounds every cycle's deviation), `consistencyScope` (what was and was not checked, with that bound),
+ * `findings`, `cautions` and `correction` (null when no judged cycle or condition is a violation).
+ * Non-finite numbers become null.
  */
-import { chemistryModel } from './chemistry';
-import { CONSISTENCY_DEFAULTS, cycleJudge, type CycleJudgement, type Verdict } from './consistency';
-import { CYCLE_DEFAULTS, cycleBasis, enumerateCycles, type Cycle } from './cycles';
+import { chemistryModel, isBalanced } from './chemistry';
+import { checkBasis, CONSISTENCY_DEFAULTS, cycleJudge, type CycleJudgement, type Verdict } from './consistency';
+import { CYCLE_DEFAULTS, cycleBasis, enumerateCycles, type Cycle, type EnumerationStop } from './cycles';
 import { cycleFluxes } from './fluxes';
 import { observablesOf, type Observables } from './observables';
 import { effectiveRates, type RateTable } from './rates';
@@ -60,9 +64,45 @@ export interface BasisVerdict {
 }
 
 export interface Finding {
-	kind: 'zero-rate' | 'transient-state' | 'cycle-cap' | 'violation' | 'irreversible' | 'unbalanced';
+	kind:
+		| 'zero-rate'
+		| 'transient-state'
+		| 'cycle-cap'
+		| 'consistency-incomplete'
+		| 'reaction-contradiction'
+		| 'violation'
+		| 'irreversible'
+		| 'unbalanced'
+		| 'correction-infeasible';
 	path: string | null;
 	message: string;
+}
+
+/** A balanced combination of basis cycles that are unbalanced on their own (indices into basisVerdicts). */
+export interface BalancedCombination {
+	basisCycles: number[];
+	coefficients: number[];
+	deviationLog10: number;
+	sigmaLog10: number | null;
+	verdict: 'consistent' | 'violation';
+}
+
+/** What the consistency verdicts cover. */
+export interface ConsistencyScope {
+	cyclesListed: number;
+	/** why the listing is incomplete; null when every cycle is listed */
+	listingStoppedBy: EnumerationStop | 'not enumerated' | null;
+	basisCycles: number;
+	basisIrreversible: number;
+	basisUnbalanced: number;
+	/** independent conditions judged: reversible balanced basis cycles and balanced combinations */
+	conditionsJudged: number;
+	balancedCombinations: BalancedCombination[];
+	/** no reversible balanced cycle deviates by more (log10): the sum of |deviation| over the conditions */
+	deviationBoundLog10: number;
+	toleranceLog10: number;
+	/** in words: what was checked and what was not */
+	summary: string;
 }
 
 export interface Audit {
@@ -79,12 +119,20 @@ export interface Audit {
 	verdictCounts: Record<Verdict, number>;
 	cycleAffinitiesKT: (number | null)[];
 	basisVerdicts: BasisVerdict[];
+	consistencyComplete: boolean;
+	consistencyScope: ConsistencyScope;
 	findings: Finding[];
 	cautions: string[];
 	correction: Correction | null;
 }
 
 const finite = (x: number): number | null => (Number.isFinite(x) ? x : null);
+const cycleKey = (cycle: Cycle) =>
+	cycle.steps
+		.map((s) => s.step)
+		.sort((a, b) => a - b)
+		.join(',');
+const log10Text = (x: number) => Number(x.toPrecision(3)).toString();
 
 function cycleSteps(table: RateTable, cycle: Cycle): AuditCycleStep[] {
 	return cycle.steps.map((s) => ({ id: table.stepIds[s.step], direction: s.direction }));
@@ -109,7 +157,9 @@ export function auditScheme(scheme: Scheme, options: Partial<AuditOptions> = {})
 	const judge = cycleJudge(table, chemistry, scheme, o);
 
 	const enumeration =
-		o.maxCycles > 0 ? enumerateCycles(graph, { maxCycles: o.maxCycles }) : { cycles: [] as Cycle[], complete: false };
+		o.maxCycles > 0
+			? enumerateCycles(graph, { maxCycles: o.maxCycles })
+			: { cycles: [] as Cycle[], complete: false, stoppedBy: 'not enumerated' as const };
 	const judgements = enumeration.cycles.map(judge);
 	const fluxes = cycleFluxes(
 		ss.K,
@@ -120,11 +170,33 @@ export function auditScheme(scheme: Scheme, options: Partial<AuditOptions> = {})
 		judgements.map((j) => j.lnBackward),
 		o.maxFluxWork
 	);
-	const basis = cycleBasis(graph);
+	// the spanning tree takes reversible steps with balanced chemistry first, so that zero rates and unbalanced
+	// steps cannot hide in the tree paths of the cycles that decide the rest
+	const X = chemistry.species.length;
+	const preference = new Uint8Array(table.m);
+	for (let s = 0; s < table.m; s++) {
+		const reversible = Number.isFinite(table.lnPlus[s]) && Number.isFinite(table.lnMinus[s]);
+		const balanced = isBalanced(chemistry, chemistry.stepExchange.subarray(s * X, (s + 1) * X));
+		preference[s] = reversible ? (balanced ? 0 : 1) : 2;
+	}
+	const basis = cycleBasis(graph, preference);
 	const basisJudgements = basis.map(judge);
+	const check = checkBasis(basis, basisJudgements, table, chemistry, scheme, o);
 
+	// count every distinct cycle judged: the listed ones, and the basis cycles not among them
 	const verdictCounts: Record<Verdict, number> = { consistent: 0, violation: 0, irreversible: 0, unbalanced: 0 };
-	for (const j of enumeration.complete ? judgements : basisJudgements) verdictCounts[j.verdict]++;
+	for (const j of judgements) verdictCounts[j.verdict]++;
+	let judgedCycles = judgements.length;
+	if (!enumeration.complete) {
+		const listed = new Set(enumeration.cycles.map(cycleKey));
+		basis.forEach((cycle, b) => {
+			if (listed.has(cycleKey(cycle))) return;
+			verdictCounts[basisJudgements[b].verdict]++;
+			judgedCycles++;
+		});
+	}
+	const combinationViolations = check.conditions.filter((c) => c.basisCycles.length > 1 && c.verdict === 'violation').length;
+	const consistencyComplete = enumeration.complete || check.deviationBoundLog10 <= o.toleranceLog10;
 
 	const cycles: AuditCycle[] = enumeration.cycles.map((cycle, c) => {
 		const j = judgements[c];
@@ -163,37 +235,65 @@ export function auditScheme(scheme: Scheme, options: Partial<AuditOptions> = {})
 				message: `state "${table.stateIds[i]}" is never occupied at steady state: zero rates stop every way back into it`
 			});
 	});
+	const bound = log10Text(check.deviationBoundLog10);
+	const conditionsText = `${check.conditions.length} independent condition${check.conditions.length === 1 ? '' : 's'} (${check.conditions.length - check.combinations} reversible balanced basis cycle${check.conditions.length - check.combinations === 1 ? '' : 's'}${check.combinations ? ` and ${check.combinations} balanced combination${check.combinations === 1 ? '' : 's'} of unbalanced ones` : ''})`;
+	let listingText: string;
+	const listedText = `${enumeration.cycles.length} cycle${enumeration.cycles.length === 1 ? '' : 's'}`;
+	if (enumeration.stoppedBy === 'cap') listingText = `cycle enumeration stopped at ${listedText}: the cap maxCycles = ${o.maxCycles} was reached`;
+	else if (enumeration.stoppedBy === 'work budget')
+		listingText = `cycle enumeration stopped at ${listedText}: the search used up its work budget (the cap maxCycles = ${o.maxCycles} was not reached)`;
+	else if (enumeration.stoppedBy === 'not enumerated') listingText = 'cycles were not enumerated (maxCycles 0)';
+	else listingText = `every simple cycle (${enumeration.cycles.length}) was enumerated and judged`;
+	let scopeText: string;
+	if (enumeration.complete) scopeText = `${listingText}.`;
+	else if (consistencyComplete)
+		scopeText = `${listingText}. The cycles not listed are decided by a cycle basis of ${basis.length} cycles with ${conditionsText}: their deviations sum to ${bound} log10 units, within the tolerance ${o.toleranceLog10}, and no reversible balanced cycle can deviate by more, so every one is consistent; cycles through a zero rate are irreversible and cycles with unbalanced chemistry unbalanced, listed or not.`;
+	else
+		scopeText = `${listingText}. Consistency is not decided for every cycle: ${judgedCycles} distinct cycles and ${conditionsText} of a ${basis.length}-cycle basis were judged; a cycle that is not listed was not judged and may deviate by up to ${bound} log10 units (the sum of |deviation| over the basis conditions), more than the tolerance ${o.toleranceLog10}.${combinationViolations ? ` ${combinationViolations} balanced combination(s) of basis cycles deviate by more than the tolerance, so unlisted cycles may well be violations.` : ''} Raise maxCycles until every cycle is listed to decide them.`;
 	if (!enumeration.complete) {
-		const why =
-			o.maxCycles > 0
-				? `cycle enumeration stopped at ${enumeration.cycles.length} cycles (cap ${o.maxCycles})`
-				: 'cycles were not enumerated (maxCycles 0)';
-		findings.push({
-			kind: 'cycle-cap',
-			path: null,
-			message: `${why}; consistency is judged on a cycle basis of ${basis.length} cycles, which decides all cycles`
-		});
+		findings.push({ kind: 'cycle-cap', path: null, message: `${listingText}.` });
 		cautions.push('cycle fluxes, cycle form of the entropy production and per-cycle verdicts cover only the listed cycles');
+	}
+	if (!consistencyComplete) findings.push({ kind: 'consistency-incomplete', path: null, message: scopeText });
+	for (const c of chemistry.contradictions) {
+		const r = scheme.reactions.findIndex((x) => x.id === c.reaction);
+		const combination = Object.entries(c.combination)
+			.map(([id, n]) => `${Number(n.toPrecision(6))} × "${id}"`)
+			.join(' + ');
+		findings.push({
+			kind: 'reaction-contradiction',
+			path: `reactions[${r}].deltaG0kJPerMol`,
+			message: `reference reactions contradict each other: "${c.reaction}" has the stoichiometry of ${combination}, but its ΔG°' is ${Number(c.deltaG0kJPerMol.toPrecision(6))} kJ/mol, not ${Number(c.combinedDeltaG0kJPerMol.toPrecision(6))} kJ/mol; cycles are judged with ${Object.keys(c.combination).map((id) => `"${id}"`).join(', ')} (the simplest reactions, whatever the order they are listed in); correct one of the values`
+		});
 	}
 	if (fluxes.computed < enumeration.cycles.length)
 		cautions.push(
 			`cycle fluxes are given for the first ${fluxes.computed} of ${enumeration.cycles.length} listed cycles (work budget maxFluxWork); the steady state, step fluxes and observables are complete`
 		);
-	const judged = enumeration.complete ? { cycles: enumeration.cycles, j: judgements } : { cycles: basis, j: basisJudgements };
-	for (const kind of ['violation', 'unbalanced'] as const) {
-		const worst = judged.j.filter((x) => x.verdict === kind).length;
-		if (worst)
-			findings.push({
-				kind,
-				path: null,
-				message:
-					kind === 'violation'
-						? `${worst} cycle(s) break thermodynamic consistency (${enumeration.complete ? 'all cycles' : 'basis cycles'}); see correction for the smallest rate changes that restore it`
-						: `${worst} cycle(s) have a net exchange of species that is no whole combination of the reference reactions; add the missing reaction or fix binds/releases`
-			});
+	// only cycles count as violations: a combination of cycles may exceed the tolerance while each cycle is within it
+	const violation = verdictCounts.violation > 0;
+	const correction = o.correction && violation ? proposeCorrection(scheme, table, basis, check.conditions) : null;
+	const judgedText = enumeration.complete ? 'of all cycles' : `of the ${judgedCycles} distinct cycles judged, listed and basis`;
+	if (violation) {
+		const fix = !o.correction
+			? ''
+			: correction!.feasible
+				? '; see correction for the smallest rate changes that restore it'
+				: `; ${correction!.reason}`;
+		findings.push({
+			kind: 'violation',
+			path: null,
+			message: `${verdictCounts.violation} cycle(s) break thermodynamic consistency (${judgedText})${fix}`
+		});
 	}
+	if (verdictCounts.unbalanced)
+		findings.push({
+			kind: 'unbalanced',
+			path: null,
+			message: `${verdictCounts.unbalanced} cycle(s) (${judgedText}) have a net exchange of species that is no combination of the reference reactions; add the missing reaction or fix binds/releases`
+		});
+	if (correction && !correction.feasible) findings.push({ kind: 'correction-infeasible', path: null, message: correction.reason! });
 	const observables = observablesOf(scheme, table, ss, chemistry, J);
-	const violation = judged.j.some((x) => x.verdict === 'violation');
 	return {
 		format: AUDIT_FORMAT,
 		states: table.stateIds.map((id, i) => ({
@@ -226,8 +326,23 @@ export function auditScheme(scheme: Scheme, options: Partial<AuditOptions> = {})
 			verdict: basisJudgements[c].verdict,
 			deviationLog10: basisJudgements[c].deviationLog10
 		})),
+		consistencyComplete,
+		consistencyScope: {
+			cyclesListed: enumeration.cycles.length,
+			listingStoppedBy: enumeration.stoppedBy,
+			basisCycles: basis.length,
+			basisIrreversible: check.irreversible,
+			basisUnbalanced: check.unbalanced,
+			conditionsJudged: check.conditions.length,
+			balancedCombinations: check.conditions
+				.filter((c) => c.basisCycles.length > 1)
+				.map((c) => ({ basisCycles: c.basisCycles, coefficients: c.coefficients, deviationLog10: c.deviationLog10, sigmaLog10: c.sigmaLog10, verdict: c.verdict })),
+			deviationBoundLog10: check.deviationBoundLog10,
+			toleranceLog10: o.toleranceLog10,
+			summary: scopeText
+		},
 		findings,
 		cautions,
-		correction: o.correction && violation ? proposeCorrection(scheme, table, basis, basisJudgements) : null
+		correction
 	};
 }

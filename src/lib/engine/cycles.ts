@@ -72,42 +72,48 @@ function adjacency(g: CycleGraph) {
 	return { start, neighbour, viaStep, direction };
 }
 
-/** Every simple cycle, up to `maxCycles`; `complete` is false when the cap or the work budget stopped it. */
+/** Why an enumeration stopped before the last cycle: the cap on cycles, or the budget of search steps. */
+export type EnumerationStop = 'cap' | 'work budget';
+
+/**
+ * Every simple cycle, up to `maxCycles`; `complete` is false when the cap or the work budget stopped it, and
+ * `stoppedBy` says which. The depth-first search keeps its own stack (no recursion, so deep schemes are fine).
+ */
 export function enumerateCycles(
 	g: CycleGraph,
 	options: Partial<typeof CYCLE_DEFAULTS> = {}
-): { cycles: Cycle[]; complete: boolean } {
+): { cycles: Cycle[]; complete: boolean; stoppedBy: EnumerationStop | null } {
 	const { maxCycles, workPerCycle } = { ...CYCLE_DEFAULTS, ...options };
 	const { start, neighbour, viaStep, direction } = adjacency(g);
 	const cycles: Cycle[] = [];
 	const onPath = new Uint8Array(g.n);
 	const pathStates: number[] = [];
 	const pathSteps: CycleStep[] = [];
+	// next edge to try at each depth of the path
+	const cursor = new Int32Array(g.n + 1);
 	const budget = Math.max(100_000, maxCycles * workPerCycle);
 	let work = 0;
-	let stopped = false;
+	let stoppedBy: EnumerationStop | null = null;
 
-	// Explicit stack instead of recursion: a path can be as long as the scheme has states (a 5,000-state ring),
-	// deeper than the call stack allows. `edgeAt[d]` is the next edge to try from the d-th state of the path.
-	const edgeAt = new Int32Array(g.n + 1);
-	for (let root = 0; root < g.n && !stopped; root++) {
+	for (let root = 0; root < g.n && !stoppedBy; root++) {
 		onPath[root] = 1;
 		pathStates.push(root);
-		edgeAt[0] = start[root];
-		while (pathStates.length > 0 && !stopped) {
-			const d = pathStates.length - 1;
-			const v = pathStates[d];
-			const e = edgeAt[d];
+		cursor[0] = start[root];
+		let depth = 0;
+		while (depth >= 0) {
+			const v = pathStates[depth];
+			const e = cursor[depth];
 			if (e >= start[v + 1]) {
 				// every edge of v tried: step back
 				onPath[v] = 0;
 				pathStates.pop();
-				if (d > 0) pathSteps.pop();
+				if (depth > 0) pathSteps.pop();
+				depth--;
 				continue;
 			}
-			edgeAt[d] = e + 1;
+			cursor[depth] = e + 1;
 			if (++work > budget) {
-				stopped = true;
+				stoppedBy = 'work budget';
 				break;
 			}
 			const w = neighbour[e];
@@ -116,7 +122,7 @@ export function enumerateCycles(
 				// close only with a step of higher index than the first: one orientation, no step used twice
 				if (pathSteps.length >= 1 && s > pathSteps[0].step) {
 					if (cycles.length >= maxCycles) {
-						stopped = true;
+						stoppedBy = 'cap';
 						break;
 					}
 					cycles.push(
@@ -132,35 +138,58 @@ export function enumerateCycles(
 			onPath[w] = 1;
 			pathStates.push(w);
 			pathSteps.push({ step: s, direction: direction[e] as 1 | -1 });
-			edgeAt[d + 1] = start[w];
+			cursor[++depth] = start[w];
 		}
-		for (const v of pathStates) onPath[v] = 0;
-		pathStates.length = 0;
-		pathSteps.length = 0;
+		if (stoppedBy) {
+			onPath.fill(0);
+			pathStates.length = 0;
+			pathSteps.length = 0;
+		}
 	}
-	return { cycles, complete: !stopped };
+	return { cycles, complete: stoppedBy === null, stoppedBy };
 }
 
-/** Fundamental cycles of a breadth-first spanning forest: one per step outside the forest. */
-export function cycleBasis(g: CycleGraph): Cycle[] {
-	const { start, neighbour, viaStep } = adjacency(g);
+/**
+ * Fundamental cycles of a spanning forest: one per step outside the forest. The forest takes steps in
+ * order of `preference` (lower first, then by index; Kruskal's greedy order), so that when the preferred
+ * steps alone join two states the tree path between them uses only preferred steps: with reversible,
+ * balanced steps preferred, every reversible cycle is a sum of basis cycles that are themselves reversible.
+ */
+export function cycleBasis(g: CycleGraph, preference?: ArrayLike<number>): Cycle[] {
+	const order = [...Array(g.m).keys()];
+	if (preference) order.sort((a, b) => preference[a] - preference[b] || a - b);
+	// union–find (with path halving) picks the forest's steps
+	const root = new Int32Array(g.n).map((_, i) => i);
+	const find = (x: number) => {
+		while (root[x] !== x) x = root[x] = root[root[x]];
+		return x;
+	};
+	const inTree = new Uint8Array(g.m);
+	for (const s of order) {
+		const a = find(g.from[s]);
+		const b = find(g.to[s]);
+		if (a === b) continue;
+		root[a] = b;
+		inTree[s] = 1;
+	}
+	// parents and depths by a breadth-first walk of the forest
+	const treeGraph = adjacency(g);
 	const parent = new Int32Array(g.n).fill(-1);
 	const parentStep = new Int32Array(g.n).fill(-1);
 	const depth = new Int32Array(g.n).fill(-1);
-	const inTree = new Uint8Array(g.m);
 	for (let r = 0; r < g.n; r++) {
 		if (depth[r] >= 0) continue;
 		depth[r] = 0;
 		const queue = [r];
 		for (let q = 0; q < queue.length; q++) {
 			const v = queue[q];
-			for (let e = start[v]; e < start[v + 1]; e++) {
-				const w = neighbour[e];
-				if (depth[w] >= 0) continue;
+			for (let e = treeGraph.start[v]; e < treeGraph.start[v + 1]; e++) {
+				const s = treeGraph.viaStep[e];
+				const w = treeGraph.neighbour[e];
+				if (!inTree[s] || depth[w] >= 0) continue;
 				depth[w] = depth[v] + 1;
 				parent[w] = v;
-				parentStep[w] = viaStep[e];
-				inTree[viaStep[e]] = 1;
+				parentStep[w] = s;
 				queue.push(w);
 			}
 		}
