@@ -21,9 +21,12 @@ export function summary(audit: Audit, name: string): string {
 	const v = audit.verdictCounts;
 	lines.push(`Audit of ${name || 'unnamed scheme'} (engine ${audit.engineVersion})`);
 	lines.push(
-		`${audit.states.length} states, ${audit.steps.length} steps, ${audit.cycleCount} cycles${audit.cyclesComplete ? '' : ' listed (incomplete; verdicts from the cycle basis)'}`
+		`${audit.states.length} states, ${audit.steps.length} steps, ${audit.cycleCount} cycles${audit.cyclesComplete ? '' : ' listed (incomplete)'}`
 	);
-	lines.push(`Verdicts: ${v.consistent} consistent, ${v.violation} violation, ${v.irreversible} irreversible, ${v.unbalanced} unbalanced`);
+	lines.push(
+		`Verdicts${audit.cyclesComplete ? '' : ' of the cycles judged (listed and basis)'}: ${v.consistent} consistent, ${v.violation} violation, ${v.irreversible} irreversible, ${v.unbalanced} unbalanced`
+	);
+	lines.push(`Consistency ${audit.consistencyComplete ? 'decided for every cycle' : 'NOT decided for every cycle'}: ${audit.consistencyScope.summary}`);
 	const worst = [...audit.cycles]
 		.filter((c) => c.deviationLog10 !== null)
 		.sort((a, b) => Math.abs(b.deviationLog10!) - Math.abs(a.deviationLog10!))
@@ -45,7 +48,8 @@ export function summary(audit: Audit, name: string): string {
 		lines.push('', 'Findings:');
 		for (const f of audit.findings) lines.push(`  - ${f.message}`);
 	}
-	if (audit.correction?.changes.length) {
+	if (audit.correction && !audit.correction.feasible) lines.push('', `No consistent correction: ${audit.correction.reason}`);
+	else if (audit.correction?.changes.length) {
 		lines.push('', 'Proposed correction (smallest log-space change):');
 		for (const c of audit.correction.changes)
 			lines.push(`  ${c.stepId}.${c.rate}: ${fmt(c.from)} → ${fmt(c.to)} (×${fmt(c.factor, 3)})`);

@@ -221,6 +221,8 @@ export async function adoptCorrection(access: LabAccess, auditId: string) {
 	if (!can(access.role, 'model')) error(403, { message: 'Only modellers and lab leads change schemes.', code: 'forbidden' });
 	const audit = await getAudit(access.lab.id, auditId);
 	const correction = audit.results.correction;
+	if (correction && correction.feasible === false)
+		error(409, { message: `This audit has no consistent correction to save. ${correction.reason ?? ''}`.trim(), code: 'no_correction' });
 	if (!correction || correction.changes.length === 0)
 		error(409, { message: 'This audit proposes no correction: no cycle violates consistency.', code: 'no_correction' });
 	const audited = await getRevision(access.lab.id, audit.schemeId, audit.revision);

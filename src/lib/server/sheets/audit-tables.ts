@@ -193,12 +193,35 @@ export function verdictCounts(audit: Audit): VerdictCounts {
 	return out;
 }
 
+/**
+ * Whether the verdicts cover every cycle: the audit's own `consistencyComplete`; audits from before it was
+ * recorded only know whether every cycle was listed.
+ */
+export function consistencyDecided(audit: Audit): boolean {
+	const given = (audit as Partial<Audit>).consistencyComplete;
+	return typeof given === 'boolean' ? given : audit.cyclesComplete;
+}
+
+/** What the verdicts were judged on, in a few words. */
+function judgedOn(audit: Audit): string {
+	if (audit.cyclesComplete) return 'every cycle';
+	const scope = (audit as Partial<Audit>).consistencyScope;
+	if (consistencyDecided(audit) && scope)
+		return `the listed cycles and a cycle basis whose deviations sum to ${Number(scope.deviationBoundLog10.toPrecision(3))}, within the tolerance, which bounds every cycle`;
+	return 'the listed cycles and a cycle basis, not every cycle';
+}
+
 /** One sentence a reviewer reads first. */
 export function overallVerdict(audit: Audit): string {
 	const v = verdictCounts(audit);
-	const judged = audit.cyclesComplete ? 'every cycle' : 'a cycle basis (which decides every cycle)';
+	const judged = judgedOn(audit);
 	if (v.violation > 0) return `NOT CONSISTENT: ${v.violation} cycle(s) break thermodynamic consistency (judged on ${judged}).`;
 	if (v.unbalanced > 0) return `INCOMPLETE: ${v.unbalanced} cycle(s) exchange species that no combination of the reference reactions accounts for.`;
+	if (!consistencyDecided(audit)) {
+		const scope = (audit as Partial<Audit>).consistencyScope;
+		const bound = scope ? ` Cycles that were not listed may deviate by up to ${Number(scope.deviationBoundLog10.toPrecision(3))} log10 units.` : '';
+		return `NOT DECIDED FOR EVERY CYCLE: no judged cycle breaks thermodynamic consistency (judged on ${judged}).${bound}`;
+	}
 	if (v.irreversible > 0) return `IRREVERSIBLE STEPS: ${v.irreversible} cycle(s) run through a zero rate and cannot be judged; the others are consistent.`;
 	return `CONSISTENT: no cycle breaks thermodynamic consistency (judged on ${judged}).`;
 }

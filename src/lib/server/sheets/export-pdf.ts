@@ -25,6 +25,7 @@ import {
 	overallVerdict,
 	provenanceRows,
 	verdictCounts,
+	consistencyDecided,
 	type Provenance
 } from './audit-tables';
 
@@ -293,7 +294,7 @@ export async function auditPdf(audit: Audit, scheme: Scheme | null, provenance: 
 	doc.moveDown(0.6).font('bold').fontSize(11).fillColor(INK).text(pdfText(overallVerdict(audit)));
 	doc.moveDown(0.4).font('sans').fontSize(9.5);
 	const lines = [
-		`States: ${audit.states.length}   Steps: ${audit.steps.length}   Cycles: ${audit.cycleCount}${audit.cyclesComplete ? ' (all cycles listed)' : ' (listing incomplete; verdicts from a cycle basis)'}`,
+		`States: ${audit.states.length}   Steps: ${audit.steps.length}   Cycles: ${audit.cycleCount}${audit.cyclesComplete ? ' (all cycles listed)' : ` (listing incomplete; verdicts ${consistencyDecided(audit) ? 'decided for every cycle by the cycle basis' : 'not decided for every cycle'})`}`,
 		`Verdicts: ${v.consistent} consistent, ${v.violation} violation, ${v.irreversible} irreversible, ${v.unbalanced} unbalanced`,
 		`mean velocity: ${formatNumber(o.velocityNmPerS)} nm/s`,
 		`effective diffusion coefficient: ${formatNumber(o.diffusionNm2PerS)} nm²/s`,
@@ -319,7 +320,10 @@ export async function auditPdf(audit: Audit, scheme: Scheme | null, provenance: 
 		for (const x of findings) doc.text(pdfText(`• ${x}`), { indent: 0 });
 	}
 	const correction = (audit as Partial<Audit>).correction;
-	if (correction && correction.changes.length) {
+	if (correction && correction.feasible === false) {
+		heading(doc, 'No consistent correction');
+		doc.text(pdfText(correction.reason ?? 'No change of the free rates restores consistency.'));
+	} else if (correction && correction.changes.length) {
 		heading(doc, 'Smallest rate changes that make every cycle consistent');
 		table(
 			doc,

@@ -16,6 +16,7 @@ import {
 	statesTable,
 	stepsTable,
 	verdictCounts,
+	consistencyDecided,
 	type AuditTable,
 	type Provenance
 } from './audit-tables';
@@ -74,13 +75,17 @@ export async function auditWorkbook(audit: Audit, scheme: Scheme | null, provena
 		['states', audit.states.length],
 		['steps', audit.steps.length],
 		['cycles listed', audit.cycleCount],
-		['all cycles listed', audit.cyclesComplete ? 'yes' : 'no (verdicts from a cycle basis)'],
+		['all cycles listed', audit.cyclesComplete ? 'yes' : 'no'],
 		['cycles consistent', v.consistent],
 		['cycles in violation', v.violation],
 		['cycles irreversible', v.irreversible],
 		['cycles unbalanced', v.unbalanced],
 		['mean velocity (nm/s)', audit.observables.velocityNmPerS],
 		['entropy production (kB/s)', audit.observables.entropyProductionKTPerS],
+		[
+			'consistency decided for every cycle',
+			consistencyDecided(audit) ? 'yes' : `no: ${(audit as Partial<Audit>).consistencyScope?.summary ?? 'not every cycle was listed'}`
+		],
 		...findingsOf(audit).map((f, i) => [i === 0 ? 'findings' : null, f]),
 		...cautionsOf(audit).map((c, i) => [i === 0 ? 'cautions' : null, c])
 	]);
