@@ -31,7 +31,18 @@ const CYCLE_KEYS = [
 	'netReaction',
 	'displacementNm'
 ];
-const OBSERVABLE_KEYS = ['velocityNmPerS', 'diffusionNm2PerS', 'randomness', 'entropyProductionKTPerS', 'reactionRatesPerS', 'efficiency'];
+const OBSERVABLE_KEYS = [
+	'velocityNmPerS',
+	'diffusionNm2PerS',
+	'randomness',
+	'entropyProductionKTPerS',
+	'reactionRatesPerS',
+	'efficiency',
+	'efficiencyRegime',
+	'efficiencyNote',
+	'stallForcePN',
+	'stallForcesPN'
+];
 
 describe('auditScheme', () => {
 	it('has exactly the escapement.audit/1 keys plus the documented extras, and survives JSON', () => {

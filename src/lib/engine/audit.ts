@@ -5,8 +5,10 @@
  *
  * Source: composition of the engine's modules; see each of them for the published methods.
  * Cost: O(n³) for the steady state + O(cycles · (length·species + m³)) for the cycles (m = states off a
- * cycle) + O(basis · n) for the basis.
- * Invariants: the JSON keys of issue 3 exactly, plus the documented extra keys `engineVersion`,
+ * cycle) + O(basis · n) for the basis + one steady state per stall-force evaluation (none for a tight bracket,
+ * about 50 for a scan; skipped past maxStallWork).
+ * Invariants: the JSON keys of issue 3 exactly, plus the documented extra keys `observables.stallForcePN`,
+ * `observables.stallForcesPN`, `observables.efficiencyRegime`, `observables.efficiencyNote`, `engineVersion`,
  * `conditions`, `verdictCounts` (verdicts of every distinct cycle judged: the listed cycles and the basis
  * cycles), `cycleAffinitiesKT` (parallel to `cycles`), `basisVerdicts`, `consistencyComplete` (true only when
  * no cycle is left undecided: every cycle listed, or the basis deviations sum to within the tolerance, which
@@ -18,7 +20,9 @@ import { chemistryModel, isBalanced } from './chemistry';
 import { checkBasis, CONSISTENCY_DEFAULTS, cycleJudge, type CycleJudgement, type Verdict } from './consistency';
 import { CYCLE_DEFAULTS, cycleBasis, enumerateCycles, type Cycle, type EnumerationStop } from './cycles';
 import { cycleFluxes } from './fluxes';
+import { efficiency, type EfficiencyRegime } from './efficiency';
 import { observablesOf, type Observables } from './observables';
+import { stallSearch } from './stall';
 import { effectiveRates, type RateTable } from './rates';
 import { AUDIT_FORMAT, ENGINE_VERSION, type Scheme } from './scheme';
 import { steadyState, stepFluxes } from './steady-state';
@@ -32,7 +36,9 @@ export const AUDIT_DEFAULTS = {
 	/** propose a minimal correction when a cycle is a violation */
 	correction: true,
 	/** multiply–adds allowed for cycle fluxes (Σ over cycles of (states off the cycle)³); past it fluxes are null */
-	maxFluxWork: 3e8
+	maxFluxWork: 3e8,
+	/** multiply–adds allowed for the stall-force scan (steady states × states³); past it the audit leaves it out */
+	maxStallWork: 3e7
 };
 export type AuditOptions = typeof AUDIT_DEFAULTS;
 
@@ -63,6 +69,18 @@ export interface BasisVerdict {
 	deviationLog10: number | null;
 }
 
+/** The observables with the efficiency's regime and the stall forces (both documented extra keys). */
+export interface AuditObservables extends Observables {
+	/** 'motor' or 'synthase' when efficiency has a value */
+	efficiencyRegime: EfficiencyRegime | null;
+	/** why efficiency is null */
+	efficiencyNote: string | null;
+	/** the sign change of V(F) nearest zero load, null when there is none (a finding says why) */
+	stallForcePN: number | null;
+	/** every sign change of V(F) in the searched range, ascending; null when it was not searched */
+	stallForcesPN: number[] | null;
+}
+
 export interface Finding {
 	kind:
 		| 'zero-rate'
@@ -73,7 +91,8 @@ export interface Finding {
 		| 'violation'
 		| 'irreversible'
 		| 'unbalanced'
-		| 'correction-infeasible';
+		| 'correction-infeasible'
+		| 'stall-force';
 	path: string | null;
 	message: string;
 }
@@ -112,7 +131,7 @@ export interface Audit {
 	cycles: AuditCycle[];
 	cycleCount: number;
 	cyclesComplete: boolean;
-	observables: Observables;
+	observables: AuditObservables;
 	// documented extra keys
 	engineVersion: string;
 	conditions: { temperatureK: number; forcePN: number; kTpNnm: number; concentrationsM: Record<string, number> };
@@ -293,7 +312,29 @@ export function auditScheme(scheme: Scheme, options: Partial<AuditOptions> = {})
 			message: `${verdictCounts.unbalanced} cycle(s) (${judgedText}) have a net exchange of species that is no combination of the reference reactions; add the missing reaction or fix binds/releases`
 		});
 	if (correction && !correction.feasible) findings.push({ kind: 'correction-infeasible', path: null, message: correction.reason! });
-	const observables = observablesOf(scheme, table, ss, chemistry, J);
+	const base = observablesOf(scheme, table, ss, chemistry, J);
+	const eta = efficiency({
+		forcePN: scheme.forcePN,
+		velocityNmPerS: base.velocityNmPerS,
+		reactionRatesPerS: chemistry.reactionIds.map((id) => base.reactionRatesPerS[id]),
+		reactionDeltaGpNnm: Array.from(chemistry.reactionDeltaGkT, (g) => g * table.kT)
+	});
+	// complete enumeration brackets the stall forces exactly (stall.ts); otherwise the scan covers ±1000 pN
+	const stall = stallSearch(scheme, { cycles: enumeration.complete ? enumeration.cycles : null, maxWork: o.maxStallWork });
+	if (stall.message)
+		findings.push({
+			kind: 'stall-force',
+			path: 'observables.stallForcePN',
+			message: stall.stallForcePN === null ? `no stall force: ${stall.message}` : stall.message
+		});
+	const observables: AuditObservables = {
+		...base,
+		efficiency: eta.value,
+		efficiencyRegime: eta.regime,
+		efficiencyNote: eta.reason,
+		stallForcePN: stall.stallForcePN,
+		stallForcesPN: stall.stallForcesPN
+	};
 	return {
 		format: AUDIT_FORMAT,
 		states: table.stateIds.map((id, i) => ({
