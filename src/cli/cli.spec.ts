@@ -30,6 +30,7 @@ describe('escapement audit (CLI)', { timeout: 120_000 }, () => {
 		expect(r.stdout).toMatch(/Verdicts: 0 consistent, 1 violation/);
 		expect(r.stdout).toMatch(/Worst cycles/);
 		expect(r.stdout).toMatch(/velocity\s+[\d.]+ nm\/s/);
+		expect(r.stdout).toMatch(/stall force\s+[\d.]+ pN/);
 		expect(r.stdout).toMatch(/Proposed correction/);
 		expect(r.stdout).toMatch(/Consistency decided for every cycle: every simple cycle \(1\) was enumerated and judged/);
 	});

@@ -43,7 +43,9 @@ export function summary(audit: Audit, name: string): string {
 	lines.push(`  randomness          ${fmt(o.randomness)}`);
 	lines.push(`  entropy production  ${fmt(o.entropyProductionKTPerS)} kB/s`);
 	for (const [id, rate] of Object.entries(o.reactionRatesPerS)) lines.push(`  ${id.padEnd(19)} ${fmt(rate)} /s`);
-	lines.push(`  efficiency          ${fmt(o.efficiency)}`);
+	lines.push(`  efficiency          ${fmt(o.efficiency)}${o.efficiencyRegime ? ` (${o.efficiencyRegime} regime)` : o.efficiencyNote ? ` (${o.efficiencyNote})` : ''}`);
+	const stalls = o.stallForcesPN ?? [];
+	lines.push(`  stall force         ${o.stallForcePN === null ? '—' : `${fmt(o.stallForcePN)} pN`}${stalls.length > 1 ? ` (nearest zero load; all: ${stalls.map((f) => fmt(f)).join(', ')} pN)` : ''}`);
 	if (audit.findings.length) {
 		lines.push('', 'Findings:');
 		for (const f of audit.findings) lines.push(`  - ${f.message}`);

@@ -112,6 +112,7 @@ describe('audit workbook, re-read with exceljs and checked cell by cell', () => 
 		expect(values.get('entropy production')).toBe(audit.observables.entropyProductionKTPerS);
 		for (const [id, rate] of Object.entries(audit.observables.reactionRatesPerS)) expect(values.get(`turnover: ${id}`)).toBe(rate);
 		expect(values.get('randomness') ?? null).toBe(audit.observables.randomness);
+		expect(values.get('stall force') ?? null).toBe(audit.observables.stallForcePN);
 	});
 
 	it('summary counts, conditions and provenance', async () => {

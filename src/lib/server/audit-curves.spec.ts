@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { auditScheme, PACER_STEPPER, velocityAt, type Scheme } from '../engine';
-import { speciesOf, stallForceOrNull, treesInto, velocitySweep } from './audit-curves';
+import { speciesOf, storedStallForce, stallForceOrNull, stallForces, treesInto, velocitySweep } from './audit-curves';
 
 // CODATA 2018 exact constants [pub]
 const KB = 1.380649e-23; // J/K
@@ -28,6 +28,14 @@ describe('stall force of a stored scheme', () => {
 		const oneWay: Scheme = { ...PACER_STEPPER, steps: PACER_STEPPER.steps.map((s) => (s.id === 'ADP release' ? { ...s, kBackward: 0 } : s)) };
 		expect(velocityAt(oneWay, 0)).toBeGreaterThan(0);
 		expect(stallForceOrNull(oneWay)).toBeNull();
+		expect(stallForces(oneWay).reason).toBe('irreversible');
+	});
+	it('takes a stored audit’s own figure, even when it is none, and asks for it to be computed only when the audit has none', () => {
+		expect(storedStallForce(auditScheme(PACER_STEPPER).observables)!).toBeCloseTo(thermodynamicStallPN(PACER_STEPPER), 6);
+		expect(storedStallForce({ stallForcePN: null, stallForcesPN: [] })).toBeNull();
+		// an audit made before the audit carried the stall force, or past the audit's work budget
+		expect(storedStallForce({})).toBeUndefined();
+		expect(storedStallForce({ stallForcePN: null, stallForcesPN: null })).toBeUndefined();
 	});
 });
 

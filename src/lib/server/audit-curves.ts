@@ -3,7 +3,17 @@
  * or against one species' concentration, the stall force, and the directed spanning trees of small schemes.
  * Everything is recomputed by the engine from the stored inputs (never from edited data), so it matches the audit.
  */
-import { EngineError, spanningTreesInto, stallForce, velocityAt, withConditions, type Scheme } from '../engine';
+import {
+	CYCLE_DEFAULTS,
+	effectiveRates,
+	enumerateCycles,
+	spanningTreesInto,
+	stallSearch,
+	velocityAt,
+	withConditions,
+	type Scheme,
+	type StallSearch
+} from '../engine';
 import { spacedPoints } from '../components/plot-scale';
 
 export const SWEEP_MAX_POINTS = 200;
@@ -12,14 +22,26 @@ export const TREE_MAX_STATES = 8;
 /** Pictures sent per state; the count and Σ always cover all trees. */
 export const TREE_PICTURE_LIMIT = 250;
 
-/** The stall force at the stored conditions, or null when the engine finds none (no reversal within ±1000 pN). */
+/**
+ * Every stall force of the stored scheme with the reason when there is none, as the audit computes it: bracketed
+ * exactly by the cycles when they can all be listed, else a scan of ±1000 pN; here with no work budget.
+ */
+export function stallForces(scheme: Scheme): StallSearch {
+	const listed = enumerateCycles(effectiveRates(scheme), { maxCycles: CYCLE_DEFAULTS.maxCycles });
+	return stallSearch(scheme, { cycles: listed.complete ? listed.cycles : null });
+}
+
+/** The stall force nearest zero load, or null when there is none. */
 export function stallForceOrNull(scheme: Scheme): number | null {
-	try {
-		return stallForce(scheme);
-	} catch (err) {
-		if (err instanceof EngineError) return null;
-		throw err;
-	}
+	return stallForces(scheme).stallForcePN;
+}
+
+/**
+ * The stall force a stored audit carries (null: it has none, and a finding says why), or undefined when the audit
+ * did not search for it (stored before the audit carried it, or past its work budget) and it must be computed.
+ */
+export function storedStallForce(observables: { stallForcePN?: number | null; stallForcesPN?: number[] | null }): number | null | undefined {
+	return Array.isArray(observables.stallForcesPN) ? (observables.stallForcePN ?? null) : undefined;
 }
 
 /** Species whose concentration the scheme uses: bound, released, or in a reference reaction. */

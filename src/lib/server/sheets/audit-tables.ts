@@ -151,7 +151,15 @@ export function observablesTable(audit: Audit): AuditTable {
 		['randomness', finiteOrNull(o.randomness), '(dimensionless)'],
 		['entropy production', finiteOrNull(o.entropyProductionKTPerS), 'kB/s'],
 		...Object.entries(o.reactionRatesPerS ?? {}).map(([id, r]): CellValue[] => [`turnover: ${id}`, finiteOrNull(r), '1/s']),
-		['efficiency', finiteOrNull(o.efficiency), '(dimensionless)']
+		['efficiency', finiteOrNull(o.efficiency), o.efficiencyRegime ? `(dimensionless, ${o.efficiencyRegime} regime)` : '(dimensionless)'],
+		// audits stored before the stall force was part of the audit have no such key
+		...(o.stallForcesPN === undefined
+			? []
+			: (o.stallForcesPN?.length ? o.stallForcesPN : [null]).map((f, i, all): CellValue[] => [
+					all.length > 1 ? `stall force ${i + 1} of ${all.length}` : 'stall force',
+					f === null ? null : finiteOrNull(f),
+					'pN'
+				]))
 	];
 	return {
 		name: 'observables',

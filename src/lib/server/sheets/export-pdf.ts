@@ -302,7 +302,11 @@ export async function auditPdf(audit: Audit, scheme: Scheme | null, provenance: 
 		// The engine reports null when a step with a zero rate carries net flux: the entropy production is infinite.
 		`entropy production: ${o.entropyProductionKTPerS === null ? 'infinite (a step with a zero rate carries net flux)' : `${formatNumber(o.entropyProductionKTPerS)} kB/s`}`,
 		...Object.entries(o.reactionRatesPerS ?? {}).map(([id, r]) => `turnover of ${id}: ${formatNumber(r)} /s`),
-		`efficiency: ${formatNumber(o.efficiency)}`
+		`efficiency: ${formatNumber(o.efficiency)}${o.efficiencyRegime ? ` (${o.efficiencyRegime} regime)` : ''}`,
+		// audits stored before the stall force was part of the audit have no such key
+		...(o.stallForcesPN === undefined
+			? []
+			: [`stall force: ${o.stallForcePN === null ? 'none (see the findings)' : `${formatNumber(o.stallForcePN)} pN`}${(o.stallForcesPN?.length ?? 0) > 1 ? ` (all sign changes of V: ${o.stallForcesPN!.map((f) => formatNumber(f)).join(', ')} pN)` : ''}`])
 	];
 	const c = (audit as Partial<Audit>).conditions;
 	if (c) lines.push(`Conditions: ${formatNumber(c.temperatureK)} K, opposing load ${formatNumber(c.forcePN)} pN, ${Object.entries(c.concentrationsM).map(([s, x]) => `[${s}] ${formatNumber(x)} M`).join(', ') || 'no species'}`);

@@ -3,7 +3,7 @@ import { z } from 'zod';
 import { can, requireLab, requireUser, requireUserPage } from '$lib/server/access';
 import { getAudit, getAuditSummary, verifyAudit, adoptCorrection } from '$lib/server/audits';
 import { returnAudit, signAudit, submitForReview } from '$lib/server/reviews';
-import { TREE_MAX_STATES, speciesOf } from '$lib/server/audit-curves';
+import { TREE_MAX_STATES, speciesOf, storedStallForce } from '$lib/server/audit-curves';
 import { runEngine } from '$lib/server/engine-pool';
 import { auditCycleTable } from '$lib/server/audit-cycles';
 import { cyclePage, CYCLE_INLINE_MAX, CYCLE_PAGE_SIZE, CYCLE_SORT_DEFAULT } from '$lib/audit-cycles';
@@ -21,6 +21,8 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 	const inline = table.rows.length <= CYCLE_INLINE_MAX;
 	const chosen = Number(url.searchParams.get('cycle'));
 	const highlighted = Number.isInteger(chosen) && chosen >= 1 ? (table.rows[chosen - 1] ?? null) : null;
+	// the audit's own stall force; audits stored before it was part of the audit (or past its budget) get it computed
+	const stall = storedStallForce(audit.results.observables);
 	return {
 		audit: {
 			id: audit.id,
@@ -49,7 +51,7 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 			highlighted,
 			violationCover: table.violationCover
 		},
-		stallForcePN: (await runEngine('stallForce', { scheme: audit.inputs })).stallForcePN,
+		stallForcePN: stall !== undefined ? stall : (await runEngine('stallForce', { scheme: audit.inputs })).stallForcePN,
 		species: speciesOf(audit.inputs),
 		treeMaxStates: TREE_MAX_STATES,
 		review: {
