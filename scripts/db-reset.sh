@@ -12,6 +12,7 @@ started=""
 if ! pg_run "$PGBIN/pg_ctl" -D "$(pg_data_base)/dev" status >/dev/null 2>&1; then started=1; fi
 pg_start dev "$PGPORT" escapement
 pg_drop_create "$PGPORT" escapement
+ensure_secret
 (cd "$ROOT" && npx tsx scripts/migrate.ts && npx tsx scripts/seed.ts) || die "migrate or seed failed."
 [ -n "$started" ] && pg_stop dev
 say "development database reset and seeded."

@@ -112,6 +112,19 @@ ensure_secret() {
   [ -s "$f" ] || (umask 077; node -e "process.stdout.write(require('crypto').randomBytes(32).toString('base64url'))" > "$f")
   chmod 600 "$f"
   export AUTH_SECRET="${AUTH_SECRET:-$(cat "$f")}"
+  ensure_signing_key
+}
+
+ensure_signing_key() {
+  # The server's Ed25519 key for signed audit records: a file outside the database, readable by its owner only.
+  local f="$ROOT/.data/signing-key.pem"
+  mkdir -p "$ROOT/.data"
+  if [ ! -s "$f" ]; then
+    (umask 077 && node -e "const { generateKeyPairSync } = require('crypto'); process.stdout.write(generateKeyPairSync('ed25519').privateKey.export({ type: 'pkcs8', format: 'pem' }))" > "$f") \
+      || die "could not create the signing key $f"
+  fi
+  chmod 600 "$f"
+  export SIGNING_KEY_FILE="${SIGNING_KEY_FILE:-$f}"
 }
 
 needs_build() {

@@ -20,7 +20,7 @@ for (const { id, labId } of signed) {
 	const check = await verifyAudit(audit);
 	if (check.matches) verified++;
 	else failed++;
-	console.log(`${check.matches ? 'ok     ' : 'FAILED '} ${id} "${audit.schemeName}" r${audit.revision} sha256 ${check.recomputed.slice(0, 16)}…`);
+	console.log(`${check.matches ? 'ok     ' : 'FAILED '} ${id} "${audit.schemeName}" r${audit.revision} sha256 ${check.recomputed.slice(0, 16)}…${check.matches ? '' : ` (differs: ${check.problems.map((p) => p.field).join(', ')})`}`);
 }
 await closeDb();
 console.log(`signed audits: ${verified} verified, ${failed} failed`);

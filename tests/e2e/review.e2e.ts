@@ -85,6 +85,8 @@ describe('review and sign-off', () => {
 		await page.getByRole('button', { name: 'Sign in' }).click();
 		await page.waitForURL(auditUrl);
 		await page.locator('textarea[name="comment"]').first().fill('Violation confirmed as entered; signing the record.');
+		// The composite has a violating cycle: signing needs the explicit acknowledgement.
+		await page.getByLabel(/I acknowledge the violating cycles/).check();
 		await page.locator('input[name="password"]').fill('kestrel-demo-2026');
 		await page.getByRole('button', { name: 'Sign', exact: true }).click();
 		const signed = page.getByRole('note').filter({ hasText: 'Signed by Priya Castellanos' });
@@ -95,6 +97,8 @@ describe('review and sign-off', () => {
 		const [download] = await Promise.all([page.waitForEvent('download'), page.getByRole('link', { name: 'Report (.pdf)' }).click()]);
 		const text = (await pdfText(await download.path())).replace(/\s+/g, ' ');
 		expect(text).toContain('Priya Castellanos');
+		expect(text).toContain('Violating cycles acknowledged by the signer');
+		expect(text).toMatch(/Ed25519/);
 		expect(text.replace(/ /g, '')).toContain(hash);
 		expect(text).not.toMatch(/Awaiting signature/i);
 	});

@@ -10,6 +10,7 @@ import { db, schema, type Tx } from './db';
 import { can, type LabAccess } from './access';
 import { logActivity } from './activity';
 import { runEngine } from './engine-pool';
+import { compareRecord, inputsHash, serverKey, type RecordProblem, type SignedRecord } from './signing';
 import { getRevision, getScheme, isUuid, saveRevision } from './schemes';
 import type { AuditSummary } from '../audit-cycles';
 import { applyCorrection, type Audit, type Scheme, type Verdict } from '../engine';
@@ -184,21 +185,108 @@ async function readAudit(labId: string, auditId: string, withCycles: boolean) {
 }
 export type StoredAudit = Awaited<ReturnType<typeof getAudit>>;
 
+/** What a signature row adds to the record: signer, time, comment and the acknowledgement of violations. */
+export interface SignatureFields {
+	signerId: string;
+	signerName: string;
+	signedAt: Date;
+	comment: string;
+	violationAcknowledged: boolean;
+}
+
 /**
- * Recomputes the hash from the stored inputs and results and compares it with the stored hash (and, for a signed
- * audit, with the hash the reviewer signed). The engine pool reads them as text and hashes them off the event loop.
+ * The record a reviewer signs, built from the rows as stored: every field the audit page and the PDF show as part
+ * of a signed audit. Built at signing, and again at verification to compare with what was signed.
  */
-export async function verifyAudit(
-	audit: Pick<StoredAudit, 'id' | 'sha256' | 'engineVersion' | 'signature'>
-): Promise<{ matches: boolean; recomputed: string; stored: string; signed: string | null }> {
+export async function recordFields(audit: StoredAudit, signature: SignatureFields): Promise<Omit<SignedRecord, 'format' | 'key'>> {
+	const [lab] = await db.select().from(schema.labs).where(eq(schema.labs.id, audit.labId));
+	return {
+		audit: {
+			id: audit.id,
+			createdAt: audit.createdAt.toISOString(),
+			engineVersion: audit.engineVersion,
+			contentSha256: audit.sha256,
+			inputsSha256: inputsHash(audit.inputs),
+			verdict: audit.verdict,
+			verdictCounts: audit.verdictCounts
+		},
+		lab: { id: audit.labId, slug: lab?.slug ?? '', name: lab?.name ?? '' },
+		scheme: { id: audit.schemeId, name: audit.schemeName },
+		revision: { id: audit.revisionId, number: audit.revision, sourceFileName: audit.sourceFileName ?? null, sourceSha256: audit.sourceSha256 ?? null },
+		author: { id: audit.createdBy, name: audit.createdByName ?? null, email: audit.createdByEmail },
+		signer: { id: signature.signerId, name: signature.signerName },
+		signedAt: signature.signedAt.toISOString(),
+		comment: signature.comment,
+		violationAcknowledged: signature.violationAcknowledged
+	};
+}
+
+export interface Verification {
+	/** True when nothing below differs: the hash holds and, for a signed audit, the server signature and every field. */
+	matches: boolean;
+	recomputed: string;
+	stored: string;
+	signed: string | null;
+	/** Each field that differs from what was signed (or from the stored hash), with what to tell the reader. */
+	problems: RecordProblem[];
+	/** For a signed audit: whether the Ed25519 signature holds, and the fingerprint of the key it names. */
+	signature: { valid: boolean; keyFingerprint: string | null; serverKeyFingerprint: string } | null;
+}
+
+/**
+ * Verifies an audit. Always: recomputes the content hash from the stored inputs and results (the engine pool reads
+ * them as text and hashes them off the event loop) and compares it with the stored hash. For a signed audit also:
+ * the server's Ed25519 signature over the signed record, every field of that record against the rows as stored now,
+ * and the recomputed hash against the signed one. Says which field differs.
+ */
+export async function verifyAudit(audit: StoredAudit): Promise<Verification> {
 	const [text] = await db
 		.select({ inputsJson: sql<string>`${schema.audits.inputs}::text`, resultsJson: sql<string>`${schema.audits.results}::text` })
 		.from(schema.audits)
 		.where(eq(schema.audits.id, audit.id));
 	if (!text) error(404, { message: 'No such audit in this lab.', code: 'not_found' });
 	const { sha256: recomputed } = await runEngine('rehash', { ...text, engineVersion: audit.engineVersion });
-	const signed = audit.signature?.sha256 ?? null;
-	return { matches: recomputed === audit.sha256 && (signed === null || signed === recomputed), recomputed, stored: audit.sha256, signed };
+	const problems: RecordProblem[] = [];
+	if (recomputed !== audit.sha256)
+		problems.push({ field: 'results', message: 'The stored inputs and results no longer hash to the stored SHA-256: inputs, results or the engine version were changed.' });
+	const sig = audit.signature;
+	if (!sig) return { matches: problems.length === 0, recomputed, stored: audit.sha256, signed: null, problems, signature: null };
+
+	const current = await recordFields(audit, {
+		signerId: sig.signerId,
+		signerName: sig.signerName,
+		signedAt: sig.signedAt,
+		comment: sig.comment,
+		violationAcknowledged: sig.violationAcknowledged
+	});
+	const recordProblems = compareRecord(sig.record, sig.recordSignature, current);
+	problems.push(...recordProblems);
+	if (audit.status !== 'signed') problems.push({ field: 'status', message: `The audit has a signature but its status is ${audit.status}.` });
+	if (sig.sha256 !== audit.sha256) problems.push({ field: 'signature.sha256', message: 'The hash in the signature row differs from the audit’s stored hash.' });
+	const signedRecord = sig.record ? (JSON.parse(sig.record) as SignedRecord) : null;
+	if (signedRecord && recomputed !== signedRecord.audit.contentSha256) {
+		const inputsChanged = recordProblems.some((p) => p.field === 'audit.inputsSha256');
+		problems.push({
+			field: inputsChanged ? 'inputs' : 'results',
+			message: `The stored ${inputsChanged ? 'inputs' : 'results'} do not hash to the content hash that was signed (${signedRecord.audit.contentSha256.slice(0, 16)}…).`
+		});
+	}
+	const valid = Boolean(sig.record && sig.recordSignature) && !recordProblems.some((p) => p.field === 'signature');
+	return {
+		matches: problems.length === 0,
+		recomputed,
+		stored: audit.sha256,
+		signed: sig.sha256,
+		problems,
+		signature: { valid, keyFingerprint: signedRecord?.key?.fingerprint ?? null, serverKeyFingerprint: serverKey().fingerprint }
+	};
+}
+
+/** The same for an audit named by its id alone (scripts, restore checks). */
+export async function verifyAuditById(auditId: string): Promise<Verification & { labId: string }> {
+	const [row] = await db.select({ labId: schema.audits.labId }).from(schema.audits).where(eq(schema.audits.id, auditId));
+	if (!row) error(404, { message: 'No such audit.', code: 'not_found' });
+	return { ...(await verifyAudit(await getAudit(row.labId, auditId))), labId: row.labId };
 }
 
 /** Provenance block for exports. */

@@ -25,6 +25,10 @@ export const config = {
 	get origin() {
 		return process.env.ORIGIN ?? 'http://127.0.0.1:5180';
 	},
+	/** The server's Ed25519 private key (PEM), outside the database; scripts/lib.sh makes `.data/signing-key.pem`. */
+	get signingKeyFile() {
+		return process.env.SIGNING_KEY_FILE ?? '.data/signing-key.pem';
+	},
 	get isTest() {
 		return process.env.ESCAPEMENT_ENV === 'test';
 	}

@@ -11,8 +11,9 @@ import { db, schema, type Tx } from './db';
 import type { AuditStatus } from './db/schema';
 import { can, type LabAccess } from './access';
 import { logActivity } from './activity';
-import { getAudit, verifyAudit } from './audits';
+import { getAudit, recordFields, verifyAudit, type StoredAudit } from './audits';
 import { requirePassword } from './rate-limit';
+import { signRecord } from './signing';
 import { queueMail } from './jobs';
 import { config } from './config';
 
@@ -87,26 +88,54 @@ async function requireReviewable(access: LabAccess, auditId: string) {
 	return audit;
 }
 
-export async function signAudit(access: LabAccess, auditId: string, input: { password: string; comment: string }) {
+/** An audit with at least one violating cycle needs an explicit acknowledgement, with a comment, to be signed. */
+export function needsAcknowledgement(audit: Pick<StoredAudit, 'verdictCounts'>): boolean {
+	return (audit.verdictCounts.violation ?? 0) > 0;
+}
+
+/** The values of a signature row: the record of every shown field, signed with the server's Ed25519 key. */
+export async function signatureValues(audit: StoredAudit, signer: { id: string; name: string }, comment: string, violationAcknowledged: boolean) {
+	// Set here rather than by the column default, so that the record names the time the row stores (to the ms).
+	const signedAt = new Date();
+	const fields = await recordFields(audit, { signerId: signer.id, signerName: signer.name, signedAt, comment, violationAcknowledged });
+	const { text, signature, fingerprint } = signRecord(fields);
+	return { auditId: audit.id, signerId: signer.id, signerName: signer.name, comment, sha256: audit.sha256, signedAt, violationAcknowledged, record: text, recordSignature: signature, keyFingerprint: fingerprint };
+}
+
+export async function signAudit(access: LabAccess, auditId: string, input: { password: string; comment: string; acknowledgeViolation?: boolean }) {
 	const audit = await requireReviewable(access, auditId);
 	const [me] = await db.select().from(schema.users).where(eq(schema.users.id, access.user.id));
 	await requirePassword({ email: me?.email ?? access.user.email, userId: access.user.id, passwordHash: me?.passwordHash }, input.password, 'sign', 'That password is not right. Enter your own password to sign.');
+	const comment = input.comment.trim();
+	const acknowledged = needsAcknowledgement(audit);
+	if (acknowledged && (!input.acknowledgeViolation || !comment))
+		error(400, {
+			message: `This audit has ${audit.verdictCounts.violation} violating cycle(s). To sign it anyway, tick the acknowledgement and say in the comment why the record should stand as it is.`,
+			code: 'acknowledgement_required'
+		});
 	const check = await verifyAudit(audit);
 	if (!check.matches) error(409, { message: 'The stored audit no longer matches its hash; it cannot be signed. Run the audit again.', code: 'hash_mismatch' });
 	const signerName = me.name ?? me.email;
+	const values = await signatureValues(audit, { id: me.id, name: signerName }, comment, acknowledged);
 	await db.transaction(async (tx) => {
 		await moveStatus(tx, auditId, ['submitted'], 'signed', 'This audit was signed or returned by someone else a moment ago.');
-		await tx.insert(schema.signatures).values({ auditId, signerId: me.id, signerName, comment: input.comment, sha256: audit.sha256 });
-		await tx.insert(schema.reviewEvents).values({ auditId, kind: 'signed', actorId: me.id, note: input.comment });
+		await tx.insert(schema.signatures).values(values);
+		await tx.insert(schema.reviewEvents).values({ auditId, kind: 'signed', actorId: me.id, note: comment });
 		await logActivity(
-			{ labId: access.lab.id, actorId: me.id, kind: 'audit-signed', summary: `Signed the audit of "${audit.schemeName}" r${audit.revision}`, details: { auditId, sha256: audit.sha256 } },
+			{
+				labId: access.lab.id,
+				actorId: me.id,
+				kind: 'audit-signed',
+				summary: `Signed the audit of "${audit.schemeName}" r${audit.revision}${acknowledged ? ' (violations acknowledged)' : ''}`,
+				details: { auditId, sha256: audit.sha256, keyFingerprint: values.keyFingerprint, violationAcknowledged: acknowledged }
+			},
 			tx
 		);
 		await queueMail(
 			{
 				to: audit.createdByEmail,
 				subject: `Signed: ${audit.schemeName} (revision ${audit.revision})`,
-				text: `${signerName} signed your audit of ${audit.schemeName}, revision ${audit.revision}.\n${input.comment ? `\nComment: ${input.comment}\n` : ''}\nSHA-256: ${audit.sha256}\n\n${auditUrl(access, auditId)}`
+				text: `${signerName} signed your audit of ${audit.schemeName}, revision ${audit.revision}.\n${acknowledged ? '\nThe reviewer acknowledged its violating cycles.\n' : ''}${comment ? `\nComment: ${comment}\n` : ''}\nSHA-256: ${audit.sha256}\n\n${auditUrl(access, auditId)}`
 			},
 			tx
 		);

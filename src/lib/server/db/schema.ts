@@ -284,7 +284,14 @@ export const signatures = pgTable('signatures', {
 	comment: text('comment').notNull().default(''),
 	/** The audit's SHA-256 at the moment of signing. */
 	sha256: text('sha256').notNull(),
-	signedAt: created()
+	signedAt: created(),
+	/** The reviewer confirmed signing an audit with violating cycles, with a comment saying why. */
+	violationAcknowledged: boolean('violation_acknowledged').notNull().default(false),
+	/** The signed record: RFC 8785 canonical JSON of every field shown as part of it (see signing.ts). */
+	record: text('record'),
+	/** Ed25519 signature (base64) of `record` with the server's key, and that key's fingerprint. */
+	recordSignature: text('record_signature'),
+	keyFingerprint: text('key_fingerprint')
 });
 
 // ---------------------------------------------------------------- activity, mail, exports

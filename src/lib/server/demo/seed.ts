@@ -8,7 +8,8 @@ import { schema } from '../db';
 import { hashPassword } from '../passwords';
 import type { LabRole } from '../db/schema';
 import { createScheme } from '../schemes';
-import { runAudit } from '../audits';
+import { getAudit, runAudit } from '../audits';
+import { signatureValues } from '../reviews';
 import { compositeWithViolation, stepperWithFutileBranch, threeSiteRotary } from './schemes';
 
 export const DEMO_PASSWORD = 'kestrel-demo-2026';
@@ -40,12 +41,19 @@ async function seedSchemes(db: Db, labId: string): Promise<void> {
 	const waiting = await runAudit(access, rotary.scheme.id);
 	await runAudit(access, composite.scheme.id);
 
-	// The review history is written directly: the demo needs no mail to be sent.
+	// The review history is written directly: the demo needs no mail to be sent. The signature is a real one, with the
+	// server's key, over the record as it will be stored.
+	const signature = await signatureValues(
+		await getAudit(labId, signed.id),
+		{ id: reviewer.id, name: reviewer.name ?? reviewer.email },
+		'All cycles balance within uncertainty; stall force is plausible.',
+		false
+	);
 	await db.transaction(async (tx) => {
 		await tx.update(schema.audits).set({ status: 'submitted' }).where(eq(schema.audits.id, signed.id));
 		await tx.insert(schema.reviewEvents).values({ auditId: signed.id, kind: 'submitted', actorId: modeller.id, note: 'Fitted rates from the March trap data; please check before the manuscript goes out.' });
 		await tx.update(schema.audits).set({ status: 'signed' }).where(eq(schema.audits.id, signed.id));
-		await tx.insert(schema.signatures).values({ auditId: signed.id, signerId: reviewer.id, signerName: reviewer.name ?? reviewer.email, comment: 'All cycles balance within uncertainty; stall force is plausible.', sha256: signed.sha256 });
+		await tx.insert(schema.signatures).values(signature);
 		await tx.insert(schema.reviewEvents).values({ auditId: signed.id, kind: 'signed', actorId: reviewer.id, note: 'All cycles balance within uncertainty; stall force is plausible.' });
 		await tx.update(schema.audits).set({ status: 'submitted' }).where(eq(schema.audits.id, waiting.id));
 		await tx.insert(schema.reviewEvents).values({ auditId: waiting.id, kind: 'submitted', actorId: modeller.id, note: 'Torque dependence split 0.6/0.4 between the substeps; is that defensible?' });

@@ -34,6 +34,10 @@ export interface Signature {
 	signedAt: string;
 	comment: string;
 	sha256: string;
+	violationAcknowledged?: boolean;
+	/** SHA-256 fingerprint of the server's Ed25519 key that signed the record, and where its public half is shown. */
+	keyFingerprint?: string | null;
+	publicKeyUrl?: string;
 }
 
 export const DIAGRAM_MAX_STATES = 40;
@@ -405,8 +409,14 @@ export async function auditPdf(audit: Audit, scheme: Scheme | null, provenance: 
 		doc.text(pdfText(`Signed by: ${signature.signer}`), PAGE.margin + 8, boxY + 8);
 		doc.text(pdfText(`Signed at: ${signature.signedAt}`));
 		if (signature.comment) doc.text(pdfText(`Comment: ${signature.comment}`), { width: boxW - 16 });
+		if (signature.violationAcknowledged) doc.text(pdfText('Violating cycles acknowledged by the signer.'));
 		doc.text('Content hash (SHA-256):');
 		doc.font('mono').fontSize(8).text(signature.sha256);
+		doc.font('sans').fontSize(9);
+		if (signature.keyFingerprint) {
+			doc.text(pdfText(`Record signed by the server with Ed25519; key fingerprint (SHA-256)${signature.publicKeyUrl ? `, public key at ${signature.publicKeyUrl}` : ''}:`), { width: boxW - 16 });
+			doc.font('mono').fontSize(8).text(signature.keyFingerprint);
+		} else doc.text(pdfText('No server signature (signed before records carried one).'));
 	} else {
 		doc.font('bold').text('Awaiting signature', PAGE.margin + 8, boxY + 8);
 		doc.font('sans').text(pdfText('No reviewer has signed this audit yet. Signer: ____________________   Date: ____________'));

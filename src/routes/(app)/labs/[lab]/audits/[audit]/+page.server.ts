@@ -38,7 +38,14 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 			createdByName: audit.createdByName ?? audit.createdByEmail,
 			sourceFileName: audit.sourceFileName,
 			signature: audit.signature
-				? { signerName: audit.signature.signerName, signedAt: audit.signature.signedAt, comment: audit.signature.comment, sha256: audit.signature.sha256 }
+				? {
+						signerName: audit.signature.signerName,
+						signedAt: audit.signature.signedAt,
+						comment: audit.signature.comment,
+						sha256: audit.signature.sha256,
+						violationAcknowledged: audit.signature.violationAcknowledged,
+						keyFingerprint: audit.signature.keyFingerprint
+					}
 				: null,
 			events: audit.events,
 			inputs: audit.inputs,
@@ -57,7 +64,8 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 		review: {
 			isAuthor,
 			maySubmit: can(access.role, 'model') && open,
-			maySign: can(access.role, 'review') && !isAuthor && audit.status === 'submitted'
+			maySign: can(access.role, 'review') && !isAuthor && audit.status === 'submitted',
+			violations: audit.verdictCounts.violation ?? 0
 		}
 	};
 };
@@ -90,7 +98,8 @@ export const actions: Actions = {
 		const comment = noteInput.safeParse(String(form.get('comment') ?? ''));
 		if (!password) return fail(400, { action: 'sign', message: 'Enter your password again to sign.' });
 		if (!comment.success) return fail(400, { action: 'sign', message: comment.error.issues[0].message });
-		return attempt('sign', async () => signAudit(await requireLab(user, params.lab, 'review'), params.audit, { password, comment: comment.data }));
+		const acknowledgeViolation = form.get('acknowledgeViolation') === 'yes';
+		return attempt('sign', async () => signAudit(await requireLab(user, params.lab, 'review'), params.audit, { password, comment: comment.data, acknowledgeViolation }));
 	},
 	return: async ({ locals, params, request }) => {
 		const user = requireUser(locals);

@@ -5,7 +5,12 @@ import { getAudit } from '$lib/server/audits';
 import { signAudit } from '$lib/server/reviews';
 import type { RequestHandler } from './$types';
 
-const signBody = z.object({ password: z.string().min(1, 'Enter your password again to sign.'), comment: z.string().max(4000).default('') });
+const signBody = z.object({
+	password: z.string().min(1, 'Enter your password again to sign.'),
+	comment: z.string().max(4000).default(''),
+	/** Required (true, with a comment) for an audit with violating cycles. */
+	acknowledgeViolation: z.boolean().default(false)
+});
 
 /** Signs a submitted audit (a reviewer who is not its author, with their password). */
 export const POST: RequestHandler = apiRoute(async (event) => {
@@ -16,6 +21,13 @@ export const POST: RequestHandler = apiRoute(async (event) => {
 	return json({
 		status: 'signed',
 		sha256,
-		signature: signature && { signer: signature.signerName, signedAt: signature.signedAt, comment: signature.comment, sha256: signature.sha256 }
+		signature: signature && {
+			signer: signature.signerName,
+			signedAt: signature.signedAt,
+			comment: signature.comment,
+			sha256: signature.sha256,
+			violationAcknowledged: signature.violationAcknowledged,
+			keyFingerprint: signature.keyFingerprint
+		}
 	});
 });
