@@ -29,7 +29,7 @@ export const STALL_DEFAULTS = {
 	toleranceForcePN: 1e-9,
 	maxIterations: 200,
 	/** intervals of the scan */
-	gridIntervals: 48,
+	gridIntervals: 32,
 	/** every simple cycle of the scheme (a complete enumeration); null scans without the exact bracket */
 	cycles: null as Cycle[] | null,
 	/** multiply–adds allowed for the scan (evaluations × states³); past it the search is not run */
@@ -66,8 +66,8 @@ const fmt = (x: number) => Number(x.toPrecision(4)).toString();
  * A sign is trusted only where |V| exceeds that bound. Where a rate or an occupied state's probability has left the
  * normal double range (underflow at extreme loads), the bound is infinite: the sign there is unknown.
  */
-function velocityWithError(scheme: Scheme, forcePN: number, live: LiveParts): { v: number; err: number } {
-	const table = effectiveRates(withConditions(scheme, { forcePN }));
+function velocityWithError(loaded: LoadedRates, forcePN: number, live: LiveParts): { v: number; err: number } {
+	const table = loaded.at(forcePN);
 	const { p } = steadyState(table);
 	let v = 0;
 	let oneWay = 0;
@@ -83,6 +83,30 @@ function velocityWithError(scheme: Scheme, forcePN: number, live: LiveParts): { 
 	}
 	for (let i = 0; i < table.n; i++) if (live.occupied[i] && !(p[i] >= TINY)) underflow = true;
 	return { v, err: underflow ? Infinity : 2 * (table.n + table.m) * Number.EPSILON * oneWay };
+}
+
+/**
+ * The rate table at any load from the unloaded one: k+ = k+(0)·exp(−θ·F·d/kBT), k− = k−(0)·exp((1−θ)·F·d/kBT), as
+ * rates.ts computes them, without rebuilding the scheme for every evaluation (one table, refilled).
+ */
+interface LoadedRates {
+	at(forcePN: number): RateTable;
+}
+
+function loadedRates(scheme: Scheme): LoadedRates {
+	const unloaded = effectiveRates(withConditions(scheme, { forcePN: 0 }));
+	const table: RateTable = { ...unloaded, kPlus: new Float64Array(unloaded.m), kMinus: new Float64Array(unloaded.m) };
+	const forward = Float64Array.from(scheme.steps, (st) => (-st.loadFraction * st.displacementNm) / unloaded.kT);
+	const backward = Float64Array.from(scheme.steps, (st) => ((1 - st.loadFraction) * st.displacementNm) / unloaded.kT);
+	return {
+		at(F: number) {
+			for (let s = 0; s < table.m; s++) {
+				table.kPlus[s] = unloaded.kPlus[s] * Math.exp(forward[s] * F);
+				table.kMinus[s] = unloaded.kMinus[s] * Math.exp(backward[s] * F);
+			}
+			return table;
+		}
+	};
 }
 
 /** Below this a rate or probability may have lost digits to underflow (the smallest normal double is 2.2e-308). */
@@ -291,16 +315,22 @@ export function stallSearch(scheme: Scheme, options: Partial<StallOptions> = {})
 	const F0 = scheme.forcePN;
 	let evaluations = 0;
 	const live = liveParts(table);
+	const loaded = loadedRates(scheme);
 	/** V and its error bound, or null where it cannot be evaluated (no unique steady state, rates out of range) */
+	const seen = new Map<number, { v: number; err: number } | null>();
 	const evaluate = (F: number): { v: number; err: number } | null => {
+		if (seen.has(F)) return seen.get(F)!;
 		evaluations++;
+		let r: { v: number; err: number } | null;
 		try {
-			const r = velocityWithError(scheme, F, live);
-			return Number.isFinite(r.v) ? r : null;
+			r = velocityWithError(loaded, F, live);
+			if (!Number.isFinite(r.v)) r = null;
 		} catch (err) {
-			if (err instanceof EngineError) return null;
-			throw err;
+			if (!(err instanceof EngineError)) throw err;
+			r = null;
 		}
+		seen.set(F, r);
+		return r;
 	};
 	const V = (F: number) => evaluate(F)?.v ?? NaN;
 	const none = (reason: StallReason, message: string, extra: Partial<StallSearch> = {}): StallSearch => ({
@@ -428,7 +458,7 @@ export function stallSearch(scheme: Scheme, options: Partial<StallOptions> = {})
 	// each root's uncertainty: where |V| ≤ its error bound around it, over the slope of V there. The slope comes from
 	// points a hundredth of the bracket apart (closer ones would measure the rounding), capped by the bracket's secant.
 	const uncertainty = ({ root, a, b }: { root: number; a: number; b: number }) => {
-		const h = 0.01 * (b - a);
+		const h = 0.01 * (b - a); // bracket ends and the root itself were evaluated already
 		const [left, mid, right, A, B] = [evaluate(root - h), evaluate(root), evaluate(root + h), evaluate(a), evaluate(b)];
 		if (!left || !mid || !right || !A || !B) return b - a;
 		const slope = Math.min(Math.abs(right.v - left.v) / (2 * h), Math.abs(B.v - A.v) / (b - a));
