@@ -3,7 +3,8 @@
  *  1. full audits with every cycle (4…14 states, 2 steps per state): time, cycle count, brute-force tree
  *     enumeration against the fast steady state, and a plain dense LU solve (mathjs) beside GTH;
  *  2. large schemes (10…400 states): steady state + cycle-basis verdicts + V and D (audit with maxCycles 0);
- *  3. nearly decomposable schemes, where the LU solve loses the small probabilities or their sign.
+ *  3. nearly decomposable schemes, where the LU solve loses the small probabilities or their sign;
+ *  4. stall-force searches: steady states spent, time, and the error against a closed form where there is one.
  * Times are medians of repeated runs after a warm-up, on whatever this machine gives us.
  */
 import { lusolve } from 'mathjs';
@@ -14,6 +15,9 @@ import { effectiveRates, rateMatrix } from '../src/lib/engine/rates';
 import { freeEnergyScheme, randomScheme } from '../src/lib/engine/random-scheme';
 import type { Scheme } from '../src/lib/engine/scheme';
 import { steadyState } from '../src/lib/engine/steady-state';
+import { stallSearch } from '../src/lib/engine/stall';
+import { PACER_STEPPER } from '../src/lib/engine/examples';
+import { thermalEnergyPNnm } from '../src/lib/engine/units';
 import { bruteForceTreeSums } from '../src/lib/engine/trees';
 
 function median(xs: number[]): number {
@@ -180,6 +184,58 @@ const began = performance.now();
 	table(
 		'Nearly decomposable: 4 clusters (1e2…1e4 /s) joined by steps of 1e-16…1e-14 /s',
 		['states', 'steps', 'GTH err vs decimal', 'GTH min p', 'LU min p', 'LU p < 0', 'LU err'],
+		rows
+	);
+}
+
+// 4. Stall forces: with every cycle (the audit's exact bracket) and by the plain scan (large schemes)
+{
+	const kT = thermalEnergyPNnm(298.15);
+	const c = PACER_STEPPER.concentrationsM;
+	const pacerStall = -((-30.5e3 / 6.02214076e23) * 1e21 + kT * Math.log((c.ADP * c.Pi) / c.ATP)) / 8; // Δμ/d [der]
+	// two-state periodic model with a 1e16 /s substep: stall at (kBT/d)·ln(u0u1/(w0w1)) [pub: Fisher & Kolomeisky 1999]
+	const stiff: Scheme = {
+		...PACER_STEPPER,
+		concentrationsM: {},
+		reactions: [],
+		states: [{ id: '0' }, { id: '1' }],
+		steps: [
+			{ ...PACER_STEPPER.steps[1], id: 'a', from: '0', to: '1', kForward: 1e16, kBackward: 1e15, displacementNm: 4, loadFraction: 0.36 },
+			{ ...PACER_STEPPER.steps[1], id: 'b', from: '1', to: '0', kForward: 40, kBackward: 2, displacementNm: 4, loadFraction: 0.97 }
+		]
+	};
+	const stiffStall = (kT / 8) * Math.log((1e16 * 40) / (1e15 * 2));
+	const cases: [string, Scheme, number | null][] = [
+		['Pacer-1 (tight coupling)', PACER_STEPPER, pacerStall],
+		['two-state, 1e16 /s substep', stiff, stiffStall],
+		['free-energy 3/5 seed 168 (3 stalls)', freeEnergyScheme({ states: 3, steps: 5, seed: 168 }), null],
+		['free-energy 12/24 seed 26', freeEnergyScheme({ states: 12, steps: 24, seed: 26 }), null],
+		['free-energy 50/100 seed 50', freeEnergyScheme({ states: 50, steps: 100, seed: 50 }), null]
+	];
+	const rows: (string | number)[][] = [];
+	for (const [name, scheme, reference] of cases) {
+		const listed = enumerateCycles(effectiveRates(scheme));
+		for (const mode of ['cycles', 'scan'] as const) {
+			if (mode === 'cycles' && !listed.complete) continue;
+			const options = mode === 'cycles' ? { cycles: listed.cycles } : {};
+			const found = stallSearch(scheme, options);
+			const t = time(() => stallSearch(scheme, options), 200, 10);
+			const nearest = found.stallForcePN;
+			rows.push([
+				name,
+				mode,
+				found.stallForcesPN?.length ?? '—',
+				nearest === null ? (found.reason ?? '—') : nearest.toPrecision(10),
+				found.uncertaintiesPN?.length ? sci(Math.max(...found.uncertaintiesPN)) : '—',
+				reference === null || nearest === null ? '—' : sci(Math.abs(nearest - reference)),
+				found.evaluations,
+				ms(t)
+			]);
+		}
+	}
+	table(
+		'Stall forces: every sign change of V(F); cycles = bracketed by the cycles’ own stall forces, scan = ±1000 pN',
+		['scheme', 'mode', 'roots', 'nearest (pN)', 'uncertainty (pN)', 'error vs closed form', 'steady states', 'ms'],
 		rows
 	);
 }
