@@ -327,6 +327,11 @@ export function auditScheme(scheme: Scheme, options: Partial<AuditOptions> = {})
 			path: 'observables.stallForcePN',
 			message: stall.stallForcePN === null ? `no stall force: ${stall.message}` : stall.message
 		});
+	const loose = (stall.uncertaintiesPN ?? []).reduce((w, u, i) => Math.max(w, u / Math.max(1, Math.abs(stall.stallForcesPN![i]))), 0);
+	if (loose > 1e-6)
+		cautions.push(
+			`a stall force is known only to ±${Number((loose * 100).toPrecision(2))} % (or pN below 1 pN): V loses digits near it where one-way fluxes dwarf the net flux`
+		);
 	const observables: AuditObservables = {
 		...base,
 		efficiency: eta.value,

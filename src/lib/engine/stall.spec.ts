@@ -109,6 +109,19 @@ describe('two-state periodic model: V(F) changes sign at (kBT/d)·ln(u0u1/(w0w1)
 	});
 });
 
+describe('the audit says how well it knows the stall force', () => {
+	it('cautions where V loses digits near the stall (a 1e16 /s substep, scanned) and not for the Pacer-1 stepper', () => {
+		const s = scheme(['0', '1'], [{ ...plainStep('a', '0', '1', 1e16, 1e15, 4), loadFraction: 0.36 }, { ...plainStep('b', '1', '0', 40, 2, 4), loadFraction: 0.97 }]);
+		const scanned = stallSearch(s);
+		// the true stall lies within what the search says it knows [pub: Fisher & Kolomeisky 1999]
+		expect(Math.abs(scanned.stallForcePN! - (kT / 8) * Math.log(200))).toBeLessThanOrEqual(scanned.uncertaintiesPN![0]);
+		const caution = (c: string) => /stall force is known only/.test(c);
+		expect(auditScheme(s, { maxCycles: 0 }).cautions.some(caution)).toBe(scanned.uncertaintiesPN![0] > 1e-6 * Math.max(1, scanned.stallForcePN!));
+		expect(auditScheme(s).cautions.some(caution)).toBe(false); // the cycle bracket is exact here
+		expect(auditScheme(PACER_STEPPER).cautions.some(caution)).toBe(false);
+	});
+});
+
 /**
  * A loosely coupled motor: ATP binding (E → T), then the step either forward (+8 nm) or backward (−8 nm), both
  * releasing ADP and Pi. Its cycles: forward chemomechanical, backward chemomechanical, and a mechanical slip.
@@ -199,6 +212,20 @@ describe('no stall force, and the true reason', () => {
 			scheme(
 				['A', 'B', 'C'],
 				[{ ...plainStep('a', 'A', 'B', 5e3, 1, 0.1), binds: ['ATP'] }, plainStep('b', 'B', 'C', 40, 2, 0.2), { ...plainStep('c', 'C', 'A', 30, 1e-3, -0.3), releases: ['ADP', 'Pi'] }],
+				driven
+			)
+		],
+		[
+			'the only moving cycle runs through transient states (nothing flows back into C and D)',
+			scheme(
+				['A', 'B', 'C', 'D'],
+				[
+					{ ...plainStep('a', 'A', 'B', 5e3, 1), binds: ['ATP'] },
+					{ ...plainStep('b', 'B', 'A', 7, 2), releases: ['ADP', 'Pi'] },
+					plainStep('c', 'A', 'C', 0, 5),
+					plainStep('d', 'C', 'D', 30, 2, 4),
+					plainStep('e', 'D', 'C', 30, 2, 4)
+				],
 				driven
 			)
 		]

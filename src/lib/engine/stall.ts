@@ -133,10 +133,11 @@ function liveParts(table: RateTable): LiveParts {
 	};
 }
 
-/** Whether displacements derive from positions of the states along every live step: then no cycle moves [der]. */
-function displacementIsPotential(table: RateTable): boolean {
+/** Whether displacements derive from positions of the states along every live step: then no cycle moves, V ≡ 0 [der]. */
+function displacementIsPotential(table: RateTable, occupied: Uint8Array): boolean {
 	const { n, m, from, to, kPlus, kMinus, displacementNm } = table;
-	const live = (s: number) => kPlus[s] > 0 || kMinus[s] > 0;
+	// steps between states that are ever occupied, with a rate: only they can carry flux
+	const live = (s: number) => (kPlus[s] > 0 || kMinus[s] > 0) && occupied[from[s]] === 1 && occupied[to[s]] === 1;
 	const head = new Int32Array(n).fill(-1);
 	const next = new Int32Array(2 * m);
 	const other = new Int32Array(2 * m);
@@ -253,7 +254,7 @@ interface CycleBracket {
 }
 
 /** The exact bracket [min F_κ, max F_κ] from every simple cycle (see the header). */
-function cycleBracket(table: RateTable, cycles: Cycle[], F0: number): CycleBracket {
+function cycleBracket(table: RateTable, cycles: Cycle[], F0: number, occupied: Uint8Array): CycleBracket {
 	let low = Infinity;
 	let high = -Infinity;
 	let positive = false;
@@ -273,8 +274,10 @@ function cycleBracket(table: RateTable, cycles: Cycle[], F0: number): CycleBrack
 			lnUp += direction === 1 ? table.lnPlus[step] : table.lnMinus[step];
 			lnDown += direction === 1 ? table.lnMinus[step] : table.lnPlus[step];
 		}
-		// a cycle without net displacement adds nothing to V; one with no rate either way carries no flux
+		// a cycle without net displacement adds nothing to V; one with no rate either way, or through a state never
+		// occupied (transient), carries no flux
 		if (Math.abs(x) <= 1e-12 * scale * cycle.steps.length) continue;
+		if (cycle.states.some((i) => occupied[i] !== 1)) continue;
 		if (lnUp === -Infinity && lnDown === -Infinity) continue;
 		if (lnUp === -Infinity || lnDown === -Infinity) {
 			const runs = lnDown === -Infinity ? 1 : -1;
@@ -347,10 +350,10 @@ export function stallSearch(scheme: Scheme, options: Partial<StallOptions> = {})
 
 	let dMax = 0;
 	for (let s = 0; s < table.m; s++) dMax = Math.max(dMax, Math.abs(table.displacementNm[s]));
-	if (dMax === 0 || displacementIsPotential(table))
+	if (dMax === 0 || displacementIsPotential(table, live.occupied))
 		return none(
 			'no-motion',
-			'V is zero at every load: no cycle of the scheme has a net displacement, so the load tilts the equilibrium but moves nothing'
+			'V is zero at every load: no cycle that can carry flux (nonzero rates, states occupied at steady state) has a net displacement, so the load tilts the equilibrium but moves nothing'
 		);
 	// beyond this load some rate factor exp(F·d/kBT) leaves the double range
 	const cap = Math.min(o.maxForcePN, (600 * table.kT) / dMax);
@@ -361,7 +364,7 @@ export function stallSearch(scheme: Scheme, options: Partial<StallOptions> = {})
 	let knownHigh = false;
 	let cycleBracketPN: [number, number] | null = null;
 	if (o.cycles) {
-		const br = cycleBracket(table, o.cycles, F0);
+		const br = cycleBracket(table, o.cycles, F0, live.occupied);
 		if (br.fixedSign === 0)
 			return none('no-motion', 'V is zero at every load: every cycle with a net displacement has a zero rate both ways, so none carries flux');
 		if (br.fixedSign !== null) {
