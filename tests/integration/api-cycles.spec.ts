@@ -159,7 +159,10 @@ describe('the audit page data', () => {
 		(await load({
 			locals: { user: home.people.reader },
 			params: { lab: home.lab.slug, audit },
-			url: new URL(`http://127.0.0.1/labs/${home.lab.slug}/audits/${audit}${search}`)
+			url: new URL(`http://127.0.0.1/labs/${home.lab.slug}/audits/${audit}${search}`),
+			request: new Request(`http://127.0.0.1/labs/${home.lab.slug}/audits/${audit}${search}`),
+			isDataRequest: false,
+			setHeaders: () => {}
 		} as never)) as Json;
 
 	it('reads the audit without its per-cycle lists and nothing else missing', async () => {

@@ -67,12 +67,14 @@ export interface CallOptions {
 	form?: FormData;
 	/** A raw body (e.g. malformed JSON) with its content type. */
 	raw?: { body: string; type: string };
+	/** More request headers (e.g. If-None-Match). */
+	headers?: Record<string, string>;
 }
 
 /** One request through hooks.server.ts's handle to the matching +server.ts handler. */
 export async function api(method: 'GET' | 'POST', path: string, options: CallOptions = {}): Promise<Response> {
 	const url = new URL(path, 'http://127.0.0.1:5180');
-	const headers = new Headers();
+	const headers = new Headers(options.headers);
 	if (options.token) headers.set('authorization', `Bearer ${options.token}`);
 	let body: BodyInit | undefined;
 	if (options.json !== undefined) {

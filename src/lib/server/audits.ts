@@ -11,6 +11,7 @@ import { can, type LabAccess } from './access';
 import { logActivity } from './activity';
 import { runEngine } from './engine-pool';
 import { compareRecord, inputsHash, serverKey, type RecordProblem, type SignedRecord } from './signing';
+import { tagPart } from './conditional';
 import { getRevision, getScheme, isUuid, saveRevision } from './schemes';
 import type { AuditSummary } from '../audit-cycles';
 import { applyCorrection, type Audit, type Scheme, type Verdict } from '../engine';
@@ -126,6 +127,31 @@ export async function listAudits(labId: string, schemeId: string) {
 		.innerJoin(schema.users, eq(schema.users.id, schema.audits.createdBy))
 		.where(and(eq(schema.audits.labId, labId), eq(schema.audits.schemeId, schemeId)))
 		.orderBy(desc(schema.audits.createdAt));
+}
+
+/**
+ * The strong entity tag of what a reader gets of an audit: its SHA-256 (inputs and results never change) with its
+ * review status and number of review events (which move), from one small query; 404 as getAudit. `reader` folds in
+ * who reads, for a page whose content depends on it.
+ */
+export async function auditEtag(labId: string, auditId: string, reader?: string): Promise<string> {
+	if (!isUuid(auditId)) error(404, { message: 'No such audit in this lab.', code: 'not_found' });
+	const [row] = await db
+		.select({
+			sha256: schema.audits.sha256,
+			status: schema.audits.status,
+			events: sql<number>`(select count(*) from review_events e where e.audit_id = "audits"."id")::int`
+		})
+		.from(schema.audits)
+		.where(and(eq(schema.audits.id, auditId), eq(schema.audits.labId, labId)));
+	if (!row) error(404, { message: 'No such audit in this lab.', code: 'not_found' });
+	return auditTagOf(row, reader);
+}
+
+/** The entity tag of an audit already read (getAudit, getAuditSummary): the same as auditEtag's. */
+export function auditTagOf(audit: { sha256: string; status: string; events: number | unknown[] }, reader?: string): string {
+	const events = typeof audit.events === 'number' ? audit.events : audit.events.length;
+	return `"${audit.sha256}-${audit.status}-${events}${reader ? `-${tagPart(reader)}` : ''}"`;
 }
 
 /** One audit of this lab with its scheme, revision number, author and signature, or 404. */

@@ -1,7 +1,8 @@
 import { fail, isHttpError, redirect } from '@sveltejs/kit';
 import { z } from 'zod';
 import { can, requireLab, requireUser, requireUserPage } from '$lib/server/access';
-import { getAudit, getAuditSummary, verifyAudit, adoptCorrection } from '$lib/server/audits';
+import { auditEtag, auditTagOf, getAudit, getAuditSummary, verifyAudit, adoptCorrection } from '$lib/server/audits';
+import { REVALIDATE } from '$lib/server/conditional';
 import { returnAudit, signAudit, submitForReview } from '$lib/server/reviews';
 import { TREE_MAX_STATES, speciesOf, storedStallForce } from '$lib/server/audit-curves';
 import { runEngine } from '$lib/server/engine-pool';
@@ -9,11 +10,23 @@ import { auditCycleTable } from '$lib/server/audit-cycles';
 import { cyclePage, CYCLE_INLINE_MAX, CYCLE_PAGE_SIZE, CYCLE_SORT_DEFAULT } from '$lib/audit-cycles';
 import type { Actions, PageServerLoad } from './$types';
 
-export const load: PageServerLoad = async ({ locals, params, url }) => {
+export const load: PageServerLoad = async ({ locals, params, url, request, isDataRequest, setHeaders }) => {
 	const user = requireUserPage(locals, url);
 	const access = await requireLab(user, params.lab, 'read');
+	// A strong ETag: the audit's tag with the reader (what may be done here depends on who reads). SvelteKit answers
+	// 304 itself when If-None-Match carries it; for the page data nothing else is read then, as the body is not sent.
+	const reader = `${user.id}:${access.role}`;
+	const etag = await auditEtag(access.lab.id, params.audit, reader);
+	// exactly SvelteKit's own test (one tag, W/ ignored), so that the empty answer below is never sent
+	const ifNoneMatch = request.headers.get('if-none-match');
+	if (isDataRequest && (ifNoneMatch === etag || ifNoneMatch === `W/${etag}`)) {
+		setHeaders({ etag, 'cache-control': REVALIDATE });
+		return {} as never;
+	}
 	// the summary leaves the cycles in the database; their rows come from memory or one read of the whole audit
 	const audit = await getAuditSummary(access.lab.id, params.audit);
+	// the tag of what is read here (the review state may have moved since the tag above)
+	setHeaders({ etag: auditTagOf(audit, reader), 'cache-control': REVALIDATE });
 	const isAuthor = audit.createdBy === user.id;
 	const open = audit.status === 'draft' || audit.status === 'returned';
 	// Only the summary and one page of cycles go to the browser; the table asks the cycles route for more.
