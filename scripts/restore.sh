@@ -30,5 +30,8 @@ if ! pg_run "$PGBIN/pg_restore" -h 127.0.0.1 -p "$PGPORT" -U postgres --no-owner
   die "pg_restore failed (see above); the half-made database $DBNAME was dropped."
 fi
 say "restored $FILE into $DBNAME; checking the signed audits"
+# The server's signing key is kept outside the database (and the backup): the one of this installation.
+export SIGNING_KEY_FILE="${SIGNING_KEY_FILE:-$ROOT/.data/signing-key.pem}"
+[ -r "$SIGNING_KEY_FILE" ] || die "the signing key $SIGNING_KEY_FILE is missing: copy the original installation's .data/signing-key.pem here (or set SIGNING_KEY_FILE) and run the restore again."
 (cd "$ROOT" && DATABASE_URL="postgres://postgres@127.0.0.1:$PGPORT/$DBNAME" npx tsx scripts/verify-audits.ts) \
   || die "the restored database $DBNAME holds signed audits that do not verify (above); do not use it."
