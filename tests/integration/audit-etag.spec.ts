@@ -5,7 +5,9 @@
  * for a lab the reader is not in.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { makeLab } from './db';
+import { eq } from 'drizzle-orm';
+import { db, schema, makeLab } from './db';
+import { getAudit, getAuditSummary } from '../../src/lib/server/audits';
 import { api, body, tokenFor } from './request';
 import { triangleScheme } from './api-fixtures';
 import { stopJobs } from '../../src/lib/server/jobs';
@@ -100,5 +102,15 @@ describe('stored audit: ETag and 304', () => {
 		expect(revalidated.data).toEqual({});
 		// a page (HTML) request is always rendered in full; SvelteKit answers 304 from the tag
 		expect((await pageLoad('modeller', { isDataRequest: false, ifNoneMatch: etag })).data.audit.id).toBe(auditId);
+	});
+
+	it('stores a summary beside the audit: its results without the per-cycle lists, read by the page [der]', async () => {
+		const [row] = await db.select().from(schema.auditSummaries).where(eq(schema.auditSummaries.auditId, auditId));
+		const full = await getAudit(home.lab.id, auditId);
+		const { cycles, cycleAffinitiesKT, ...rest } = full.results;
+		expect(row.cycleCount).toBe(cycles.length);
+		expect(row.summary).toEqual(rest);
+		expect(cycleAffinitiesKT).toHaveLength(cycles.length);
+		expect((await getAuditSummary(home.lab.id, auditId)).results).toEqual(rest);
 	});
 });

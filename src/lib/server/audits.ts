@@ -95,6 +95,10 @@ export async function storeAudit(
 				createdBy: access.user.id
 			})
 			.returning(auditRowColumns);
+		// the summary pages and lists read, derived by PostgreSQL from the results just stored
+		await t.execute(sql`insert into audit_summaries (audit_id, summary, cycle_count)
+			select id, results - 'cycles' - 'cycleAffinitiesKT', coalesce((results ->> 'cycleCount')::int, jsonb_array_length(results -> 'cycles'))
+			from audits where id = ${row.id}`);
 		await logActivity(
 			{
 				labId: access.lab.id,
@@ -160,8 +164,9 @@ export async function getAudit(labId: string, auditId: string) {
 }
 
 /**
- * The same without the per-cycle lists of the results (`cycles`, `cycleAffinitiesKT`), which PostgreSQL leaves out:
- * for a page that lists the cycles by other means. Up to 20,000 cycles take most of a second to read; not for hashing.
+ * The same without the per-cycle lists of the results (`cycles`, `cycleAffinitiesKT`): the audit's stored summary
+ * (audit_summaries), for a page that lists the cycles by other means. Up to 20,000 cycles take most of a second to
+ * read and parse; the summary does not grow with them. Not for hashing.
  */
 export async function getAuditSummary(labId: string, auditId: string) {
 	const audit = await readAudit(labId, auditId, false);
@@ -173,7 +178,11 @@ async function readAudit(labId: string, auditId: string, withCycles: boolean) {
 	const { results, ...columns } = getTableColumns(schema.audits);
 	const [row] = await db
 		.select({
-			audit: { ...columns, results: withCycles ? results : sql<unknown>`${results} - 'cycles' - 'cycleAffinitiesKT'` },
+			// the stored summary (the results are not parsed then); computed for a row stored without one
+			audit: {
+				...columns,
+				results: withCycles ? results : sql<unknown>`coalesce(${schema.auditSummaries.summary}, ${results} - 'cycles' - 'cycleAffinitiesKT')`
+			},
 			schemeName: schema.schemes.name,
 			revision: schema.schemeRevisions.number,
 			sourceFileName: schema.schemeRevisions.sourceFileName,
@@ -182,6 +191,7 @@ async function readAudit(labId: string, auditId: string, withCycles: boolean) {
 			createdByEmail: schema.users.email
 		})
 		.from(schema.audits)
+		.leftJoin(schema.auditSummaries, eq(schema.auditSummaries.auditId, schema.audits.id))
 		.innerJoin(schema.schemes, eq(schema.schemes.id, schema.audits.schemeId))
 		.innerJoin(schema.schemeRevisions, eq(schema.schemeRevisions.id, schema.audits.revisionId))
 		.innerJoin(schema.users, eq(schema.users.id, schema.audits.createdBy))

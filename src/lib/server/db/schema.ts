@@ -256,6 +256,19 @@ export const audits = pgTable(
 	(t) => [index('audits_scheme_idx').on(t.schemeId), index('audits_lab_status_idx').on(t.labId, t.status)]
 );
 
+/**
+ * What pages and lists read of an audit, stored beside it when it is stored: the results without the per-cycle lists
+ * (`cycles`, `cycleAffinitiesKT`, up to 20,000 entries), so that reading a summary never parses the whole result.
+ * Derived from the audit row, never changed (stored audits never change).
+ */
+export const auditSummaries = pgTable('audit_summaries', {
+	auditId: uuid('audit_id')
+		.primaryKey()
+		.references(() => audits.id, { onDelete: 'cascade' }),
+	summary: jsonb('summary').notNull(),
+	cycleCount: integer('cycle_count').notNull()
+});
+
 export const reviewEvents = pgTable(
 	'review_events',
 	{
