@@ -41,7 +41,9 @@ const OBSERVABLE_KEYS = [
 	'efficiencyRegime',
 	'efficiencyNote',
 	'stallForcePN',
-	'stallForcesPN'
+	'stallForcesPN',
+	'randomnessReason',
+	'accuracy'
 ];
 
 describe('auditScheme', () => {

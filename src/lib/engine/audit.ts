@@ -25,7 +25,7 @@ import { observablesOf, type Observables } from './observables';
 import { stallSearch } from './stall';
 import { effectiveRates, type RateTable } from './rates';
 import { AUDIT_FORMAT, ENGINE_VERSION, type Scheme } from './scheme';
-import { steadyState, stepFluxes } from './steady-state';
+import { steadyState, stepFlows } from './steady-state';
 import { proposeCorrection, type Correction } from './correction';
 
 export const AUDIT_DEFAULTS = {
@@ -171,7 +171,8 @@ export function auditScheme(scheme: Scheme, options: Partial<AuditOptions> = {})
 	const table = effectiveRates(scheme);
 	const chemistry = chemistryModel(scheme, table.kT);
 	const ss = steadyState(table);
-	const J = stepFluxes(table, ss.p);
+	const flows = stepFlows(table, ss);
+	const J = flows.net;
 	const graph = { n: table.n, m: table.m, from: table.from, to: table.to };
 	const judge = cycleJudge(table, chemistry, scheme, o);
 
@@ -229,7 +230,7 @@ export function auditScheme(scheme: Scheme, options: Partial<AuditOptions> = {})
 			verdict: j.verdict,
 			forwardFlux: finite(fluxes.forward[c]),
 			backwardFlux: finite(fluxes.backward[c]),
-			netFlux: finite(fluxes.forward[c] - fluxes.backward[c]),
+			netFlux: finite(fluxes.net[c]),
 			netReaction: netReaction(j, chemistry.reactionIds),
 			displacementNm: j.displacementNm
 		};
@@ -246,8 +247,8 @@ export function auditScheme(scheme: Scheme, options: Partial<AuditOptions> = {})
 					message: `step "${step.id}" has ${rate} = 0: every cycle through it is irreversible (infinite affinity); give it a small positive rate that satisfies detailed balance`
 				});
 	});
-	ss.p.forEach((p, i) => {
-		if (p === 0)
+	ss.logP.forEach((logP, i) => {
+		if (logP === -Infinity)
 			findings.push({
 				kind: 'transient-state',
 				path: `states[${i}]`,
@@ -312,7 +313,7 @@ export function auditScheme(scheme: Scheme, options: Partial<AuditOptions> = {})
 			message: `${verdictCounts.unbalanced} cycle(s) (${judgedText}) have a net exchange of species that is no combination of the reference reactions; add the missing reaction or fix binds/releases`
 		});
 	if (correction && !correction.feasible) findings.push({ kind: 'correction-infeasible', path: null, message: correction.reason! });
-	const base = observablesOf(scheme, table, ss, chemistry, J);
+	const base = observablesOf(scheme, table, ss, chemistry, flows);
 	const eta = efficiency({
 		forcePN: scheme.forcePN,
 		velocityNmPerS: base.velocityNmPerS,
@@ -345,7 +346,7 @@ export function auditScheme(scheme: Scheme, options: Partial<AuditOptions> = {})
 		states: table.stateIds.map((id, i) => ({
 			id,
 			probability: ss.p[i],
-			probabilityLog10: ss.p[i] > 0 ? Math.log10(ss.p[i]) : null
+			probabilityLog10: ss.logP[i] === -Infinity ? null : ss.logP[i] / Math.LN10
 		})),
 		steps: table.stepIds.map((id, s) => ({
 			id,

@@ -6,7 +6,7 @@
  * Source: Hill, Free Energy Transduction and Biochemical Cycle Kinetics (Springer 1989) [pub];
  * Chaiken 1982, SIAM J Alg Disc Meth 3:319 [pub]; Schnakenberg 1976, Rev Mod Phys 48:571 [pub].
  * Cost: O(m³ + n²) per cycle, m the number of states off the cycle; an optional work budget stops early.
- * Invariants: J± ≥ 0; ln(J+/J−) = ln(Π+/Π−); each step's net flux equals the signed sum of the net fluxes of
+ * Invariants: J± ≥ 0; ln(J+/J−) = ln(Π+/Π−); the net flux has the sign of ln(Π+/Π−) (expm1, no cancellation); each step's net flux equals the signed sum of the net fluxes of
  * the cycles through it (Hill's flux balance) when every cycle is included.
  */
 import type { Cycle } from './cycles';
@@ -17,6 +17,8 @@ export interface CycleFluxes {
 	computed: number;
 	forward: Float64Array;
 	backward: Float64Array;
+	/** net J+ − J−, as J−·expm1(ln Π+ − ln Π−): its sign is that of the affinity, never rounding's */
+	net: Float64Array;
 	/** ln Σ_κ of each cycle */
 	logSigmaCycle: Float64Array;
 }
@@ -34,6 +36,7 @@ export function cycleFluxes(
 	const ws = restrictedDetWorkspace(n);
 	const forward = new Float64Array(cycles.length).fill(NaN);
 	const backward = new Float64Array(cycles.length).fill(NaN);
+	const net = new Float64Array(cycles.length).fill(NaN);
 	const logSigmaCycle = new Float64Array(cycles.length).fill(NaN);
 	let work = 0;
 	let computed = 0;
@@ -47,15 +50,21 @@ export function cycleFluxes(
 		logSigmaCycle[c] = logSk;
 		forward[c] = Math.exp(lnForward[c] + logSk - logSigma);
 		backward[c] = Math.exp(lnBackward[c] + logSk - logSigma);
+		net[c] =
+			lnBackward[c] === -Infinity
+				? forward[c]
+				: lnForward[c] === -Infinity
+					? -backward[c]
+					: backward[c] * Math.expm1(lnForward[c] - lnBackward[c]);
 	}
-	return { computed, forward, backward, logSigmaCycle };
+	return { computed, forward, backward, net, logSigmaCycle };
 }
 
-/** Σ_κ J_κ·ln(Π+_κ/Π−_κ) in kB per second; Infinity when a cycle with flux is irreversible. */
+/** Σ_κ J_κ·ln(Π+_κ/Π−_κ) in kB per second, ≥ 0 term by term; Infinity when a cycle with flux is irreversible. */
 export function cycleEntropyProduction(fluxes: CycleFluxes, lnForward: ArrayLike<number>, lnBackward: ArrayLike<number>): number {
 	let sigma = 0;
 	for (let c = 0; c < fluxes.computed; c++) {
-		const J = fluxes.forward[c] - fluxes.backward[c];
+		const J = fluxes.net[c];
 		if (J === 0) continue;
 		sigma += J * (lnForward[c] - lnBackward[c]);
 	}

@@ -6,8 +6,10 @@
  * Source: Grassmann, Taksar & Heyman 1985, Oper Res 33:1107 [pub]; accuracy O'Cinneide 1993, Numer Math 65:109 [pub];
  * restricted determinants as spanning-forest sums: Chaiken 1982, SIAM J Alg Disc Meth 3:319 [pub];
  * pivot product = Σ_root because every elimination is a Schur complement that stays a Laplacian [der].
- * Cost: O(n³) to factor (zero entries skipped), O(n²) per stationary vector or Poisson solve,
- * O(|S|³) per restricted determinant.
+ * Cost: O(n³) to factor (zero entries skipped), O(n²) per stationary vector, Poisson solve or left solve
+ * x·L = b (iterative refinement of p), O(|S|³) per restricted determinant. Where probabilities leave the double
+ * range (p < 1e-280) the same elimination runs on logarithms of the reduced rates (every quantity is a sum of
+ * positive terms, so log-sum-exp is exact to rounding) [der]: O(n³) exp/log, used only then.
  * Invariants: input K is n×n row-major with K_ij ≥ 0 (zero diagonal ignored); the root lies in the unique
  * closed class, so every pivot is > 0 and no subtraction ever occurs in pivots or probabilities.
  */
@@ -107,6 +109,103 @@ function stationaryWeights(f: GthFactor): Float64Array {
 		for (let i = 0; i < k; i++) t += x[i] * a[i * n + k];
 		x[k] = t / pivot[k];
 	}
+	return x;
+}
+
+/** Below this a stationary weight or pivot may have lost digits to underflow: redo the elimination on logs. */
+const RANGE_LOW = 1e-280;
+const RANGE_HIGH = 1e280;
+
+/**
+ * True when the double-precision weights cannot be trusted to full relative accuracy: a state of the closed class
+ * (reachable from the root) got a weight outside [1e-280, 1e280] or zero, or a pivot did.
+ */
+export function needsLogScale(K: Float64Array, f: GthFactor): boolean {
+	const x = stationaryWeights(f);
+	const reachable = reach(K, f.n, f.order[0], false);
+	for (let k = 1; k < f.n; k++) {
+		if (!(f.pivot[k] > RANGE_LOW && f.pivot[k] < RANGE_HIGH)) return true;
+		if (reachable[f.order[k]] && !(x[k] > RANGE_LOW && x[k] < RANGE_HIGH)) return true;
+	}
+	return false;
+}
+
+/** ln(e^a + e^b) without overflow; −Infinity stands for 0. */
+function logAdd(a: number, b: number): number {
+	if (a === -Infinity) return b;
+	if (b === -Infinity) return a;
+	return a > b ? a + Math.log1p(Math.exp(b - a)) : b + Math.log1p(Math.exp(a - b));
+}
+
+/**
+ * Natural logs of the steady-state probabilities (−Infinity for a transient state) by GTH elimination on the
+ * logarithms of the rates: the same sums of positive terms as `gthFactor` and `stationary`, never under- or
+ * overflowing. Also returns ln Σ_root (the sum of the log pivots).
+ */
+export function logStationary(K: Float64Array, n: number, root = closedClassRoot(K, n)): { logP: Float64Array; logRootTreeSum: number } {
+	const order = new Int32Array(n);
+	order[0] = root;
+	for (let i = 0, k = 1; i < n; i++) if (i !== root) order[k++] = i;
+	const la = new Float64Array(n * n);
+	for (let i = 0; i < n; i++) {
+		const oi = order[i] * n;
+		for (let j = 0; j < n; j++) la[i * n + j] = i === j ? -Infinity : Math.log(K[oi + order[j]]);
+	}
+	const lpivot = new Float64Array(n);
+	let logRoot = 0;
+	for (let k = n - 1; k >= 1; k--) {
+		const rowK = k * n;
+		let s = -Infinity;
+		for (let j = 0; j < k; j++) s = logAdd(s, la[rowK + j]);
+		if (s === -Infinity)
+			throw new EngineError('gth', `state #${order[k]} has no way out in the reduced chain; check its zero rates`);
+		lpivot[k] = s;
+		logRoot += s;
+		for (let i = 0; i < k; i++) {
+			const lik = la[i * n + k];
+			if (lik === -Infinity) continue;
+			const f = lik - s;
+			const rowI = i * n;
+			for (let j = 0; j < k; j++) if (j !== i && la[rowK + j] !== -Infinity) la[rowI + j] = logAdd(la[rowI + j], f + la[rowK + j]);
+		}
+	}
+	const lx = new Float64Array(n);
+	lx[0] = 0;
+	for (let k = 1; k < n; k++) {
+		let t = -Infinity;
+		for (let i = 0; i < k; i++) if (lx[i] !== -Infinity) t = logAdd(t, lx[i] + la[i * n + k]);
+		lx[k] = t === -Infinity ? t : t - lpivot[k];
+	}
+	let total = -Infinity;
+	for (let k = 0; k < n; k++) total = logAdd(total, lx[k]);
+	const logP = new Float64Array(n);
+	for (let k = 0; k < n; k++) logP[order[k]] = lx[k] - total;
+	return { logP, logRootTreeSum: logRoot };
+}
+
+/**
+ * Solves x·L = b (L = diag(out-rates) − K) for a right side with b·1 = 0, returning the solution with
+ * x_root = 0 (add any multiple of p). The transpose of `solvePoisson` with the same factors; it serves the
+ * iterative refinement of p with residuals in double-double. Original state order in and out.
+ */
+export function solveLeft(f: GthFactor, b: Float64Array): Float64Array {
+	const { n, a, pivot, order } = f;
+	const c = new Float64Array(n);
+	for (let k = 0; k < n; k++) c[k] = b[order[k]];
+	for (let k = n - 1; k >= 1; k--) {
+		const ck = c[k] / pivot[k];
+		if (ck === 0) continue;
+		const rowK = k * n;
+		for (let j = 0; j < k; j++) c[j] += a[rowK + j] * ck;
+	}
+	const y = new Float64Array(n);
+	for (let k = 1; k < n; k++) {
+		let t = c[k];
+		for (let i = 1; i < k; i++) t += y[i] * a[i * n + k];
+		y[k] = t / pivot[k];
+	}
+	const x = new Float64Array(n);
+	for (let k = 0; k < n; k++) x[order[k]] = y[k];
 	return x;
 }
 
