@@ -5,6 +5,9 @@
  *  2. large schemes (10…400 states): steady state + cycle-basis verdicts + V and D (audit with maxCycles 0);
  *  3. nearly decomposable schemes, where the LU solve loses the small probabilities or their sign;
  *  4. stall-force searches: steady states spent, time, and the error against a closed form where there is one.
+ *  5. accuracy of V, D and step net fluxes against the 80-digit decimal path on stiff families (rapid-equilibrium
+ *     substeps, dead ends, stiff and nearly decomposable schemes), beside the plain p_from·k+ − p_to·k− sums,
+ *     the accuracy the engine reports, and the time of a full audit.
  * Times are medians of repeated runs after a warm-up, on whatever this machine gives us.
  */
 import { lusolve } from 'mathjs';
@@ -13,11 +16,14 @@ import { enumerateCycles } from '../src/lib/engine/cycles';
 import { preciseAnalysis } from '../src/lib/engine/precise';
 import { effectiveRates, rateMatrix } from '../src/lib/engine/rates';
 import { freeEnergyScheme, randomScheme } from '../src/lib/engine/random-scheme';
+import type Decimal from 'decimal.js';
 import type { Scheme } from '../src/lib/engine/scheme';
-import { steadyState } from '../src/lib/engine/steady-state';
 import { stallSearch } from '../src/lib/engine/stall';
 import { PACER_STEPPER } from '../src/lib/engine/examples';
 import { thermalEnergyPNnm } from '../src/lib/engine/units';
+import { observables } from '../src/lib/engine/observables';
+import { mulberry32, plainScheme, plainStep } from '../src/lib/engine/random-scheme';
+import { steadyState, stepFluxes } from '../src/lib/engine/steady-state';
 import { bruteForceTreeSums } from '../src/lib/engine/trees';
 
 function median(xs: number[]): number {
@@ -238,6 +244,98 @@ const began = performance.now();
 		['scheme', 'mode', 'roots', 'nearest (pN)', 'uncertainty (pN)', 'error vs closed form', 'steady states', 'ms'],
 		rows
 	);
+}
+
+// 5. Accuracy of V, D and net fluxes on stiff families
+{
+	/** unicycle of n states, every other step a 1e14…1e16 /s near-equilibrium substep, displacement on every step */
+	const rapid = (seed: number): Scheme => {
+		const rand = mulberry32(seed);
+		const n = 2 + (seed % 7);
+		const ids = Array.from({ length: n }, (_, i) => `S${i}`);
+		const steps = ids.map((id, i) => {
+			const fast = i % 2 === 0;
+			const k = fast ? 10 ** (14 + 2 * rand()) : 10 ** (3 * rand());
+			return plainStep(`s${i}`, id, ids[(i + 1) % n], k, fast ? k * (0.5 + rand()) : k * 0.01 * rand(), 8 / n);
+		});
+		return { ...plainScheme('rapid', ids, steps), stepSizeNm: 8 };
+	};
+	/** random driven scheme with two dead-end states hanging off through 1e12…1e16 /s steps that carry displacement */
+	const deadEnds = (seed: number): Scheme => {
+		const rand = mulberry32(seed);
+		const s = randomScheme({ states: 6, steps: 9, seed, displacements: true });
+		for (const x of ['X0', 'X1']) {
+			const k = 10 ** (12 + 4 * rand());
+			s.states.push({ id: x });
+			s.steps.push(plainStep(`to ${x}`, `S${Math.floor(rand() * 6)}`, x, k, k * (0.1 + rand()), 3 + 4 * rand()));
+		}
+		return s;
+	};
+	/** every other step of a random scheme in rapid equilibrium: the adversarial case for p·k+ − p·k− */
+	const adversarial = (seed: number): Scheme => {
+		const rand = mulberry32(seed);
+		const s = randomScheme({ states: 7, steps: 12, seed, displacements: true, log10Rates: [-2, 3] });
+		s.steps = s.steps.map((st, i) => (i % 2 ? st : { ...st, kForward: 10 ** (14 + 2 * rand()), kBackward: 10 ** (14 + 2 * rand()) }));
+		return s;
+	};
+	const families: [string, (seed: number) => Scheme][] = [
+		['rapid-equilibrium substeps (unicycles, 2–8 states)', rapid],
+		['dead ends at 1e12…1e16 /s', deadEnds],
+		['every other step at 1e14…1e16 /s', adversarial],
+		['stiff, rates 1e-8…1e8 /s', (seed) => randomScheme({ states: 7, steps: 12, seed, displacements: true, log10Rates: [-8, 8] })],
+		[
+			'nearly decomposable, slow links 1e-9…1e-7 /s',
+			(seed) => randomScheme({ states: 8, steps: 14, seed, displacements: true, log10Rates: [2, 4], clusters: 3, log10SlowRates: [-9, -7] })
+		]
+	];
+	const relErr = (x: number, ref: Decimal) => (ref.isZero() ? Math.abs(x) : Math.abs(ref.sub(x).div(ref).toNumber()));
+	const rows: (string | number)[][] = [];
+	for (const [name, make] of families) {
+		let errV = 0;
+		let errD = 0;
+		let errJ = 0;
+		let plainV = 0;
+		let plainJ = 0;
+		let reported = 0;
+		let tAudit = 0;
+		const seeds = [1, 2, 3, 4, 5, 6];
+		for (const seed of seeds) {
+			const scheme = make(seed);
+			const precise = preciseAnalysis(scheme, [], { motion: true });
+			const o = observables(scheme);
+			errV = Math.max(errV, relErr(o.velocityNmPerS, precise.velocity!));
+			errD = Math.max(errD, relErr(o.diffusionNm2PerS, precise.diffusion!));
+			reported = Math.max(reported, o.accuracy.velocityRelError ?? 0, o.accuracy.diffusionRelError ?? 0, o.accuracy.netFluxRelError);
+			const t = effectiveRates(scheme);
+			const ss = steadyState(t);
+			const J = stepFluxes(t, ss);
+			const plain = stepFluxes(t, ss.p);
+			let vPlain = 0;
+			precise.netFlux.forEach((ref, k) => {
+				vPlain += plain[k] * t.displacementNm[k];
+				// a true zero (dead end) shows in the decimal path as rounding far below the one-way flux
+				const oneWay = precise.probabilities[t.from[k]].mul(precise.kPlus[k]);
+				if (ref.abs().lt(oneWay.mul(1e-60))) {
+					errJ = Math.max(errJ, J[k] === 0 ? 0 : 1);
+					plainJ = Math.max(plainJ, plain[k] === 0 ? 0 : Math.abs(plain[k]) / oneWay.toNumber());
+					return;
+				}
+				errJ = Math.max(errJ, relErr(J[k], ref));
+				plainJ = Math.max(plainJ, relErr(plain[k], ref));
+			});
+			plainV = Math.max(plainV, relErr(vPlain, precise.velocity!));
+			tAudit = Math.max(tAudit, time(() => auditScheme(scheme), 60, 20));
+		}
+		rows.push([name, seeds.length, sci(errV), sci(errD), sci(errJ), sci(reported), sci(plainV), sci(plainJ), ms(tAudit)]);
+	}
+	table(
+		'Accuracy of V, D and step net fluxes against the 80-digit decimal path (Koza characteristic polynomial, tree theorem)',
+		['family', 'schemes', 'V err', 'D err', 'net flux err', 'reported', 'plain V err', 'plain flux err', 'audit ms (worst)'],
+		rows
+	);
+	console.log('errors: worst relative error over the schemes; "reported" is the worst accuracy the engine states for them;');
+	console.log('"plain": V and net fluxes summed from p_from·k+ − p_to·k− in doubles (the former method); a dead end counts its');
+	console.log('net flux against its one-way flux');
 }
 
 console.log(`\nbenchmark finished in ${((performance.now() - began) / 1000).toFixed(1)} s`);

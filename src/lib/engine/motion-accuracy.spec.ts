@@ -52,7 +52,8 @@ function unicycle(u: number[], w: number[], d: number, displacement?: number[]):
  * V = V_site·d/N, D = D_site·(d/N)². Derrida 1983, J Stat Phys 31:433 [pub] (written from memory [mem]; it agrees with
  * the characteristic-polynomial path of precise.ts to 40 digits, Koza 1999 [pub]).
  */
-function derrida(u: number[], w: number[], d: number) {
+function derrida(u: number[], w: number[], period: number | Decimal) {
+	const d = new X(period);
 	const N = u.length;
 	const U = u.map((x) => new X(x));
 	const W = w.map((x) => new X(x));
@@ -80,7 +81,7 @@ function derrida(u: number[], w: number[], d: number) {
 		B = B.add(U[j].mul(r[j]).mul(s[j]));
 	}
 	const Ds = Vs.mul(A).add(B.mul(N)).div(R.pow(2)).sub(Vs.mul(N + 2).div(2));
-	return { V: Vs.mul(d).div(N), D: Ds.mul(d * d).div(N * N) };
+	return { V: Vs.mul(d).div(N), D: Ds.mul(d.pow(2)).div(N * N) };
 }
 
 describe('V and D where a substep is in rapid equilibrium — Derrida 1983; Fisher & Kolomeisky 1999 [pub]', () => {
@@ -125,6 +126,19 @@ describe('V and D where a substep is in rapid equilibrium — Derrida 1983; Fish
 		const o = observables(unicycle(u, w, d));
 		expect(rel(o.velocityNmPerS, ref.V)).toBeLessThan(1e-12);
 		expect(rel(o.diffusionNm2PerS, ref.D)).toBeLessThan(1e-12);
+	});
+
+	it('the 80-digit reference path (Koza 1999 [pub]) itself agrees with Derrida’s closed form to 1e-30', () => {
+		for (const { u, w } of cases.slice(0, 3)) {
+			const ref = derrida(u, w, 8);
+			const precise = preciseAnalysis(unicycle(u, w, 8, u.map(() => 8 / u.length)), [], { motion: true });
+			// the displacements 8/N are doubles: compare with the period they actually add up to
+			const period = u.map(() => 8 / u.length).reduce((t, x) => t.add(x), new X(0));
+			const scaled = derrida(u, w, period);
+			expect(precise.velocity!.div(scaled.V).sub(1).abs().toNumber()).toBeLessThan(1e-30);
+			expect(precise.diffusion!.div(scaled.D).sub(1).abs().toNumber()).toBeLessThan(1e-30);
+			expect(ref.V.isZero()).toBe(false);
+		}
 	});
 
 	it('N = 25 with a mix of near-equilibrium fast substeps and one slow driven step', () => {

@@ -271,18 +271,35 @@ export function stepFlows(table: RateTable, ss: SteadyState): StepFlows {
 	// error estimate: rounding of the refined p (a few n·ε² relative) times the one-way fluxes, plus the final rounding
 	const netAbsError = new Float64Array(m);
 	const pErr = logScale ? 4 * EPS * (1 + maxAbs(logP)) : 16 * n * n * EPS * EPS;
-	let netRelError = 0;
-	// tree steps inherit the errors of the chords below them: bound by the sum of the chords' errors
-	let chordErr = 0;
+	// a tree step's net flux is the signed sum of the chords crossing its cut: its error is at most the sum of theirs,
+	// Σ over chords with an end in the subtree minus twice those with both ends in it (their lowest common ancestor is in it)
+	const depth = new Int32Array(n);
+	for (let k = 1; k < n; k++) depth[treeOrder[k]] = depth[parent[treeOrder[k]]] + 1;
+	const ends = new Float64Array(n);
+	const inside = new Float64Array(n);
 	for (let s = 0; s < m; s++) {
 		if (inTree[s]) continue;
-		netAbsError[s] = pErr * (forward[s] + backward[s]) + EPS * Math.abs(net[s]);
-		chordErr += netAbsError[s];
+		const e = pErr * (forward[s] + backward[s]) + EPS * Math.abs(net[s]);
+		netAbsError[s] = e;
+		ends[from[s]] += e;
+		ends[to[s]] += e;
+		let a = from[s];
+		let b = to[s];
+		while (a !== b) {
+			if (depth[a] >= depth[b]) a = parent[a];
+			else b = parent[b];
+		}
+		inside[a] += e;
 	}
-	for (let s = 0; s < m; s++) {
-		if (inTree[s]) netAbsError[s] = chordErr + 2 * n * EPS * Math.abs(net[s]);
-		if (net[s] !== 0) netRelError = Math.max(netRelError, netAbsError[s] / Math.abs(net[s]));
+	for (let k = n - 1; k >= 1; k--) {
+		const v = treeOrder[k];
+		const s = parentStep[v];
+		if (!bridge[s]) netAbsError[s] = Math.max(0, ends[v] - 2 * inside[v]) * (1 + 4 * n * EPS) + 2 * n * EPS * Math.abs(net[s]);
+		ends[parent[v]] += ends[v];
+		inside[parent[v]] += inside[v];
 	}
+	let netRelError = 0;
+	for (let s = 0; s < m; s++) if (net[s] !== 0) netRelError = Math.max(netRelError, netAbsError[s] / Math.abs(net[s]));
 	return { net, forward, backward, inTree, parentStep, parent, treeOrder, netRelError, netAbsError };
 }
 
