@@ -117,17 +117,26 @@ const RANGE_LOW = 1e-280;
 const RANGE_HIGH = 1e280;
 
 /**
- * True when the double-precision weights cannot be trusted to full relative accuracy: a state of the closed class
- * (reachable from the root) got a weight outside [1e-280, 1e280] or zero, or a pivot did.
+ * Steady-state probabilities as `stationary`, or null when the double-precision weights cannot be trusted to full
+ * relative accuracy: a state of the closed class (reachable from the root) got a weight outside [1e-280, 1e280] or
+ * zero, or a pivot did. Then use `logStationary`.
  */
-export function needsLogScale(K: Float64Array, f: GthFactor): boolean {
+export function stationaryInRange(K: Float64Array, f: GthFactor): Float64Array | null {
 	const x = stationaryWeights(f);
-	const reachable = reach(K, f.n, f.order[0], false);
+	let reachable: Uint8Array | null = null;
 	for (let k = 1; k < f.n; k++) {
-		if (!(f.pivot[k] > RANGE_LOW && f.pivot[k] < RANGE_HIGH)) return true;
-		if (reachable[f.order[k]] && !(x[k] > RANGE_LOW && x[k] < RANGE_HIGH)) return true;
+		if (!(f.pivot[k] > RANGE_LOW && f.pivot[k] < RANGE_HIGH)) return null;
+		if (!(x[k] > RANGE_LOW && x[k] < RANGE_HIGH)) {
+			// a zero weight is exact for a transient state (outside the closed class), an underflow otherwise
+			reachable ??= reach(K, f.n, f.order[0], false);
+			if (reachable[f.order[k]]) return null;
+		}
 	}
-	return false;
+	let total = 0;
+	for (let k = 0; k < f.n; k++) total += x[k];
+	const p = new Float64Array(f.n);
+	for (let k = 0; k < f.n; k++) p[f.order[k]] = x[k] / total;
+	return p;
 }
 
 /** ln(e^a + e^b) without overflow; −Infinity stands for 0. */

@@ -15,7 +15,7 @@
  * 0 (logP −Infinity); net fluxes conserve probability at every state.
  */
 import { ddAdd, ddMulNumber, twoProduct, dd } from './double-double';
-import { gthFactor, logStationary, logTreeSum, needsLogScale, solveLeft, stationary, type GthFactor } from './gth';
+import { gthFactor, logStationary, logTreeSum, solveLeft, stationaryInRange, type GthFactor } from './gth';
 import { rateMatrix, type RateTable } from './rates';
 
 export interface SteadyState {
@@ -49,26 +49,26 @@ export function steadyState(table: RateTable): SteadyState {
 	} catch (err) {
 		nameStates(err, table);
 	}
-	if (needsLogScale(K, factor)) {
+	const p = stationaryInRange(K, factor);
+	if (p === null) {
 		let log: ReturnType<typeof logStationary>;
 		try {
 			log = logStationary(K, n, factor.order[0]);
 		} catch (err) {
 			nameStates(err, table);
 		}
-		const p = new Float64Array(n);
-		for (let i = 0; i < n; i++) p[i] = Math.exp(log.logP[i]);
+		const scaled = new Float64Array(n);
+		for (let i = 0; i < n; i++) scaled[i] = Math.exp(log.logP[i]);
 		return {
 			K,
 			factor,
-			p,
+			p: scaled,
 			pLow: new Float64Array(n),
 			logP: log.logP,
 			logScale: true,
 			logSigma: log.logRootTreeSum - log.logP[factor.order[0]]
 		};
 	}
-	const p = stationary(factor);
 	const pLow = refine(table, factor, p);
 	const logP = new Float64Array(n);
 	for (let i = 0; i < n; i++) logP[i] = p[i] > 0 ? Math.log(p[i]) + Math.log1p(pLow[i] / p[i]) : -Infinity;
