@@ -49,14 +49,34 @@ export function steadyState(table: RateTable): SteadyState {
 	} catch (err) {
 		nameStates(err, table);
 	}
-	const p = stationaryInRange(K, factor);
+	let p = stationaryInRange(K, factor);
+	let log: ReturnType<typeof logStationary> | null = null;
 	if (p === null) {
-		let log: ReturnType<typeof logStationary>;
 		try {
 			log = logStationary(K, n, factor.order[0]);
 		} catch (err) {
 			nameStates(err, table);
 		}
+		// The elimination order decides what under- or overflows: try again into the most and into the least probable
+		// state of the closed class, and stay in double precision (and its refinement) when that keeps p in range.
+		let top = 0;
+		let bottom = -1;
+		for (let i = 0; i < n; i++) {
+			if (log.logP[i] > log.logP[top]) top = i;
+			if (log.logP[i] > -Infinity && (bottom < 0 || log.logP[i] < log.logP[bottom])) bottom = i;
+		}
+		for (const root of [top, bottom]) {
+			if (p !== null || root === factor.order[0]) continue;
+			try {
+				const again = gthFactor(K, n, root);
+				p = stationaryInRange(K, again);
+				if (p !== null) factor = again;
+			} catch {
+				p = null; // a pivot underflowed: the log-scale result stands
+			}
+		}
+	}
+	if (p === null && log !== null) {
 		const scaled = new Float64Array(n);
 		for (let i = 0; i < n; i++) scaled[i] = Math.exp(log.logP[i]);
 		return {
@@ -69,10 +89,11 @@ export function steadyState(table: RateTable): SteadyState {
 			logSigma: log.logRootTreeSum - log.logP[factor.order[0]]
 		};
 	}
-	const pLow = refine(table, factor, p);
+	const pLow = refine(table, factor, p!);
+	const q = p!;
 	const logP = new Float64Array(n);
-	for (let i = 0; i < n; i++) logP[i] = p[i] > 0 ? Math.log(p[i]) + Math.log1p(pLow[i] / p[i]) : -Infinity;
-	return { K, factor, p, pLow, logP, logScale: false, logSigma: logTreeSum(factor, p) };
+	for (let i = 0; i < n; i++) logP[i] = q[i] > 0 ? Math.log(q[i]) + Math.log1p(pLow[i] / q[i]) : -Infinity;
+	return { K, factor, p: q, pLow, logP, logScale: false, logSigma: logTreeSum(factor, q) };
 }
 
 /**
