@@ -196,4 +196,25 @@ describe('CSV export', () => {
 		expect(Number(obs.find((r) => r[0] === 'mean velocity')![1])).toBe(audit2.observables.velocityNmPerS);
 		expect(auditCsv(audit2, 'observables')).toMatch(/\r\n$/);
 	});
+
+	it('regression, an undecided basis-only audit was exported as decided: the summary says what was not checked', async () => {
+		// the template's example with s5 and s1 each 10^0.006 too fast: every basis cycle stays within the 0.01 tolerance,
+		// but their deviations sum to 0.012, so the basis alone cannot vouch for every cycle [der]
+		const json = structuredClone(EXAMPLE_SCHEME);
+		for (const id of ['s5', 's1']) json.steps.find((st) => st.id === id)!.kForward *= 10 ** 0.006;
+		const spoiled = scheme(json);
+		const undecided = auditScheme(spoiled, { maxCycles: 0 });
+		expect(undecided.verdictCounts.violation).toBe(0);
+		expect(undecided.consistencyComplete).toBe(false);
+		expect(undecided.consistencyScope.deviationBoundLog10).toBeCloseTo(0.012, 4);
+		const wb = await reread(await auditWorkbook(undecided, spoiled, provenance(undecided)));
+		const m = new Map<string, unknown>();
+		wb.getWorksheet(EXPORT_SHEETS.summary)!.eachRow((r) => m.set(String(r.getCell(1).value), r.getCell(2).value));
+		expect(String(m.get('consistency decided for every cycle'))).toMatch(/^no: .*may deviate by up to 0\.012 log10 units/);
+		expect(String(m.get('overall'))).toMatch(/^NOT DECIDED FOR EVERY CYCLE/);
+		// the complete listing decides, and the same scheme is consistent on every cycle
+		const listed = auditScheme(spoiled);
+		expect(listed.consistencyComplete).toBe(true);
+		expect(listed.verdictCounts.violation).toBe(0);
+	});
 });
