@@ -1,6 +1,6 @@
 #!/usr/bin/env bash
 # npm test: the whole suite against a throwaway PostgreSQL cluster (never the development data).
-#   1. svelte-kit sync + svelte-check   2. vitest: unit and integration   3. browser tests on the built app
+#   1. svelte-kit sync + svelte-check   2. vitest: unit and integration, then the fault tests alone   3. browser tests on the built app
 # The last line is "N passed, N failed" with the totals of every suite.
 source "$(dirname "$0")/lib.sh"
 set +e
@@ -58,6 +58,11 @@ fi
 say "2/3 unit and integration tests (vitest)"
 (cd "$ROOT" && npx vitest run --reporter=default --reporter=json --outputFile.json="$OUT/vitest.json")
 count_vitest "$OUT/vitest.json"
+
+# On their own: the fault tests restart the cluster, which would cut the connections of any test beside them.
+say "2b/3 fault tests (PostgreSQL restarted mid-test)"
+(cd "$ROOT" && npx vitest run --config tests/faults/vitest.config.ts --reporter=default --reporter=json --outputFile.json="$OUT/faults.json")
+count_vitest "$OUT/faults.json"
 
 say "3/3 browser tests on the built app (chromium)"
 if (cd "$ROOT" && npx svelte-kit sync >/dev/null && npx vite build --logLevel error > "$OUT/build.log" 2>&1); then

@@ -4,7 +4,7 @@
  * go through hooks.server.ts (token → locals.user) to the real handlers and the real PostgreSQL.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { makeLab, TEST_PASSWORD } from './db';
+import { db, makeLab, schema, TEST_PASSWORD } from './db';
 import { api, body, routeIds, tokenFor } from './request';
 import { triangleScheme, triangleWorkbook, upload } from './api-fixtures';
 import { stopJobs } from '../../src/lib/server/jobs';
@@ -17,6 +17,10 @@ interface Ctx {
 	scheme: string;
 	uploaded: string;
 	audit: string;
+	/** an engine job of the lab (a row only: no worker runs in this file, so it stays queued) */
+	job: string;
+	labId: string;
+	userId: string;
 	/** Filled by a row's prepare() for one caller. */
 	fresh?: string;
 }
@@ -49,6 +53,14 @@ async function ok(response: Response, status: number) {
 async function draftAudit(c: Ctx): Promise<string> {
 	const res = await ok(await api('POST', `/api/v1/labs/${c.lab}/schemes/${c.scheme}/audits`, { token: tokens.modeller, json: {} }), 201);
 	return res.audit.id;
+}
+/** A new engine job row of the lab, waiting (nothing works it here). */
+async function queuedJob(c: Ctx): Promise<string> {
+	const [job] = await db
+		.insert(schema.engineJobs)
+		.values({ kind: 'audit', labId: c.labId, schemeId: c.scheme, input: {}, cacheKey: `access-${++seq}`, createdBy: c.userId })
+		.returning();
+	return job.id;
 }
 /** A new audit, run by the modeller and submitted for review. */
 async function submittedAudit(c: Ctx): Promise<string> {
@@ -156,6 +168,14 @@ const ROWS: Row[] = [
 	{ route: '/api/v1/labs/[lab]/audits/[audit]/adopt-correction', method: 'POST', path: (c) => `${AU(c)}/adopt-correction`, expect: modellers(201) },
 	{ route: '/api/v1/labs/[lab]/reviews', method: 'GET', path: (c) => `${A(c)}/reviews`, expect: members(200) },
 	{ route: '/api/v1/labs/[lab]/activity', method: 'GET', path: (c) => `${A(c)}/activity?page=1&pageSize=10`, expect: { lead: 200, modeller: 403, reviewer: 403, reader: 403, outsider: 404, anonymous: 401 } },
+	{ route: '/api/v1/labs/[lab]/jobs/[job]', method: 'GET', path: (c) => `${A(c)}/jobs/${c.job}`, expect: members(200) },
+	{
+		route: '/api/v1/labs/[lab]/jobs/[job]/cancel',
+		method: 'POST',
+		prepare: (_who, c) => queuedJob(c),
+		path: (c) => `${A(c)}/jobs/${c.fresh}/cancel`,
+		expect: modellers(200)
+	},
 	{ route: '/api/v1/template', method: 'GET', path: () => '/api/v1/template', expect: { ...members(200), outsider: 200 } }
 ];
 
@@ -174,8 +194,9 @@ beforeAll(async () => {
 	const scheme = created.scheme.id as string;
 	await ok(await api('POST', `/api/v1/labs/${lab}/schemes/${scheme}/revisions`, { token: tokens.modeller, json: { scheme: triangleScheme('Triangle', 4), note: 'c backward rate re-measured' } }), 201);
 	const uploaded = await ok(await api('POST', `/api/v1/labs/${lab}/schemes`, { token: tokens.modeller, form: upload(workbook, 'triangle.xlsx', { name: 'Triangle from a sheet' }) }), 201);
-	ctx = { lab, scheme, uploaded: uploaded.scheme.id, audit: '' };
+	ctx = { lab, scheme, uploaded: uploaded.scheme.id, audit: '', job: '', labId: home.lab.id, userId: home.people.modeller.id };
 	ctx.audit = await draftAudit(ctx);
+	ctx.job = await queuedJob(ctx);
 });
 
 afterAll(async () => {

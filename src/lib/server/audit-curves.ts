@@ -16,7 +16,8 @@ import {
 } from '../engine';
 import { spacedPoints } from '../components/plot-scale';
 
-export const SWEEP_MAX_POINTS = 200;
+/** Points of one sweep; past the work budget (engine-pool.ts) a sweep runs as a job. */
+export const SWEEP_MAX_POINTS = 2000;
 /** Largest scheme whose spanning trees are drawn (beyond, their number explodes and the pictures say nothing). */
 export const TREE_MAX_STATES = 8;
 /** Pictures sent per state; the count and Σ always cover all trees. */

@@ -9,7 +9,7 @@ import { z } from 'zod';
 import { db, schema, type Tx } from './db';
 import { can, type LabAccess } from './access';
 import { logActivity } from './activity';
-import { runEngine } from './engine-pool';
+import { auditWork, overBudget, runEngine } from './engine-pool';
 import { compareRecord, inputsHash, serverKey, type RecordProblem, type SignedRecord } from './signing';
 import { tagPart } from './conditional';
 import { getRevision, getScheme, isUuid, saveRevision } from './schemes';
@@ -32,16 +32,22 @@ export function worstVerdict(counts: Record<Verdict, number>): Verdict {
 	return VERDICT_ORDER.find((v) => counts[v] > 0) ?? 'consistent';
 }
 
-/** Runs the engine (in the pool) on a scheme at the given conditions, without storing anything (the live conditions panel). */
+/**
+ * Runs the engine (in the pool) on a scheme at the given conditions, without storing anything (the live conditions
+ * panel). Past the work budget the preview judges on the cycle basis only (maxCycles 0; its findings say so): the
+ * steady state, observables and verdict stay complete, and the stored audit, run as a job, lists the cycles.
+ */
 export async function previewAudit(scheme: Scheme, conditions: Conditions = {}): Promise<{ results: Audit }> {
-	const { results } = await runEngine('preview', { scheme, conditions });
+	const { results } = await runEngine('preview', { scheme, conditions, options: previewOptions(scheme) });
 	return { results: results! };
 }
 
 /** The same as JSON text, for the API (the web server neither parses nor serializes it). */
 export async function previewAuditJson(scheme: Scheme, conditions: Conditions = {}): Promise<string> {
-	return (await runEngine('preview', { scheme, conditions, asJson: true })).resultsJson!;
+	return (await runEngine('preview', { scheme, conditions, asJson: true, options: previewOptions(scheme) })).resultsJson!;
 }
+
+const previewOptions = (scheme: Scheme) => (overBudget(auditWork(scheme)) ? { maxCycles: 0 } : {});
 
 /** The columns of a stored audit other than its (large) inputs and results. */
 const { inputs: _inputs, results: _results, ...auditRowColumns } = getTableColumns(schema.audits);
@@ -50,8 +56,13 @@ export type AuditRow = { [K in keyof typeof auditRowColumns]: (typeof schema.aud
 export type AuditEngineOutcome = Awaited<ReturnType<typeof runEngine<'audit'>>>;
 
 /** The engine's part of an audit: the revision at the conditions, audited and hashed in the pool. */
-export async function computeAudit(scheme: Scheme, conditions: Conditions | undefined, onProgress?: (p: { fraction: number; stage: string }) => void) {
-	return runEngine('audit', { scheme, conditions }, { onProgress });
+export async function computeAudit(
+	scheme: Scheme,
+	conditions: Conditions | undefined,
+	onProgress?: (p: { fraction: number; stage: string }) => void,
+	signal?: AbortSignal
+) {
+	return runEngine('audit', { scheme, conditions }, { onProgress, signal });
 }
 
 /** The revision an audit request names (the newest by default), or 404. */

@@ -80,7 +80,7 @@ function getPool(): Piscina {
 	return pool;
 }
 
-type TaskName = 'audit' | 'preview' | 'sweep' | 'stallForce' | 'trees' | 'rehash';
+type TaskName = 'audit' | 'preview' | 'sweep' | 'stallForce' | 'trees' | 'rehash' | 'cacheKey';
 type TaskOf<N extends TaskName> = Omit<Parameters<(typeof Tasks)[N]>[0], 'progress'>;
 type ResultOf<N extends TaskName> = Exclude<ReturnType<(typeof Tasks)[N]>, Tasks.Refusal>;
 

@@ -4,4 +4,4 @@ import { register } from 'tsx/esm/api';
 
 register();
 const tasks = await import('./engine-worker.ts');
-export const { audit, preview, sweep, stallForce, trees, rehash } = tasks;
+export const { audit, preview, sweep, stallForce, trees, rehash, cacheKey } = tasks;

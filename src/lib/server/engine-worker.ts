@@ -8,8 +8,8 @@
  * hashing (RFC 8785 + SHA-256, seconds for 20,000 cycles) happens here too.
  */
 import type { MessagePort } from 'node:worker_threads';
-import { auditScheme, EngineError, ENGINE_VERSION, withConditions, type Audit, type Scheme, type Verdict } from '../engine/index';
-import { auditHash } from './canonical';
+import { auditScheme, EngineError, ENGINE_VERSION, withConditions, type Audit, type AuditOptions, type Scheme, type Verdict } from '../engine/index';
+import { auditHash, canonicalJson, sha256Hex } from './canonical';
 import { stallForceOrNull, treesInto, velocitySweep, type SweepPoint } from './audit-curves';
 
 export type Conditions = { temperatureK?: number; forcePN?: number; concentrationsM?: Record<string, number> };
@@ -53,9 +53,14 @@ export function audit(task: { scheme: Scheme; conditions?: Conditions; progress?
 }
 
 /** The audit without storing anything (the live conditions panel), as an object or as JSON text for the API. */
-export function preview(task: { scheme: Scheme; conditions?: Conditions; asJson?: boolean }): { results?: Audit; resultsJson?: string } | Refusal {
+export function preview(task: {
+	scheme: Scheme;
+	conditions?: Conditions;
+	asJson?: boolean;
+	options?: Partial<AuditOptions>;
+}): { results?: Audit; resultsJson?: string } | Refusal {
 	return refusing(() => {
-		const results = auditScheme(withConditions(task.scheme, task.conditions ?? {}));
+		const results = auditScheme(withConditions(task.scheme, task.conditions ?? {}), task.options);
 		return task.asJson ? { resultsJson: JSON.stringify(results) } : { results };
 	});
 }
@@ -90,4 +95,10 @@ export function trees(task: { scheme: Scheme; stateId: string }) {
 /** Recomputes an audit's content hash from its stored JSON text (read as text, so the web server never parses it). */
 export function rehash(task: { inputsJson: string; resultsJson: string; engineVersion: string }): { sha256: string } {
 	return { sha256: auditHash({ inputs: JSON.parse(task.inputsJson), results: JSON.parse(task.resultsJson), engineVersion: task.engineVersion }) };
+}
+
+/** The cache key of engine work: SHA-256 of the canonical inputs, options and engine version (equal keys, equal results). */
+export function cacheKey(task: { kind: string; scheme: Scheme; conditions?: Conditions; options?: Record<string, unknown> }): { key: string; inputs: Scheme } {
+	const inputs = withConditions(task.scheme, task.conditions ?? {});
+	return { key: sha256Hex(canonicalJson({ kind: task.kind, inputs, options: task.options ?? {}, engineVersion: ENGINE_VERSION })), inputs };
 }

@@ -19,7 +19,8 @@ import {
 	index,
 	uniqueIndex,
 	varchar,
-	bigint
+	bigint,
+	doublePrecision
 } from 'drizzle-orm/pg-core';
 
 const bytea = customType<{ data: Uint8Array; driverData: Buffer }>({
@@ -338,3 +339,52 @@ export const caughtMail = pgTable(
 	},
 	(t) => [index('caught_mail_received_idx').on(t.receivedAt)]
 );
+
+// ---------------------------------------------------------------- engine jobs (long work, run by worker processes)
+
+export const engineJobStatus = pgEnum('engine_job_status', ['queued', 'running', 'done', 'failed', 'cancelled']);
+
+/**
+ * Engine work past the request's work budget: an audit to store, a long sweep. The row is the job as people see it
+ * (progress, stage, outcome); pg-boss carries the delivery (retries, expiry of a dead worker's job). Its input is
+ * plain data (ids and options); the outcome is an audit id or a cached result. A job finishes once: the handler
+ * writes its outcome and `done` in one transaction, and only while the row is not finished yet.
+ */
+export const engineJobs = pgTable(
+	'engine_jobs',
+	{
+		id: uuid('id').primaryKey().defaultRandom(),
+		kind: text('kind').notNull(),
+		labId: uuid('lab_id')
+			.notNull()
+			.references(() => labs.id, { onDelete: 'restrict' }),
+		schemeId: uuid('scheme_id').references(() => schemes.id, { onDelete: 'restrict' }),
+		input: jsonb('input').notNull(),
+		/** SHA-256 of the canonical inputs, options and engine version: equal keys give equal results. */
+		cacheKey: text('cache_key').notNull(),
+		status: engineJobStatus('status').notNull().default('queued'),
+		progress: doublePrecision('progress').notNull().default(0),
+		stage: text('stage').notNull().default('waiting for a worker'),
+		error: text('error'),
+		attempts: integer('attempts').notNull().default(0),
+		/** host:pid of the worker process that took the job last */
+		workedBy: text('worked_by'),
+		auditId: uuid('audit_id').references(() => audits.id, { onDelete: 'restrict' }),
+		createdBy: text('created_by')
+			.notNull()
+			.references(() => users.id),
+		createdAt: created(),
+		updatedAt: timestamp('updated_at', { withTimezone: true, mode: 'date' }).notNull().defaultNow(),
+		finishedAt: timestamp('finished_at', { withTimezone: true, mode: 'date' })
+	},
+	(t) => [index('engine_jobs_lab_scheme_idx').on(t.labId, t.schemeId, t.createdAt), index('engine_jobs_key_idx').on(t.cacheKey)]
+);
+
+/** Results of engine work kept by their cache key (stored once; a job with the same key reuses them). */
+export const engineResults = pgTable('engine_results', {
+	cacheKey: text('cache_key').primaryKey(),
+	kind: text('kind').notNull(),
+	engineVersion: text('engine_version').notNull(),
+	result: jsonb('result').notNull(),
+	createdAt: created()
+});

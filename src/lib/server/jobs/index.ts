@@ -1,8 +1,12 @@
 /**
- * Background jobs with pg-boss: mail delivery is queued so that a slow mail server never holds up a request.
- * Any process may queue (getBoss); only the web server works the queue (startJobs, from its init hook), so that a
- * short-lived process (a script, a test file) never takes a job and exits before sending it.
- * Queues are created before anything is sent (a send to a missing queue is dropped).
+ * Background jobs with pg-boss. Two kinds of work:
+ * - mail delivery, queued so that a slow mail server never holds up a request; the web server works it
+ *   (startJobs, from its init hook), so that a short-lived process (a script, a test file) never takes a job and
+ *   exits before sending it;
+ * - engine jobs past the work budget (audit-job.ts, sweep-job.ts, framed by engine-jobs.ts), worked by worker
+ *   processes (`npm run worker`, startEngineWorkers) on any machine with the same DATABASE_URL.
+ * The queues are created by the migrations (scripts/migrate.ts, as the schema's owner) and again here (harmless);
+ * a send to a missing queue is dropped.
  */
 import PgBoss from 'pg-boss';
 import type pg from 'pg';
@@ -10,7 +14,7 @@ import { config } from '../config';
 import type { Tx } from '../db';
 import { sendMail, type OutgoingMail } from '../mail/send';
 
-export const QUEUES = { mail: 'mail' } as const;
+export const QUEUES = { mail: 'mail', audit: 'engine-audit', sweep: 'engine-sweep' } as const;
 
 let booting: Promise<PgBoss> | undefined;
 let working: Promise<void> | undefined;
@@ -18,16 +22,28 @@ let working: Promise<void> | undefined;
 /** The started pg-boss instance of this process, with its queues created. */
 export function getBoss(): Promise<PgBoss> {
 	booting ??= (async () => {
-		const boss = new PgBoss({ connectionString: config.databaseUrl, schema: 'pgboss', max: 4 });
+		const boss = new PgBoss({
+			connectionString: config.databaseUrl,
+			schema: 'pgboss',
+			max: 4,
+			// how often an expired job (its worker died) is handed to another worker
+			maintenanceIntervalSeconds: Number(process.env.JOB_MAINTENANCE_SECONDS) || 30
+		});
+		// pg-boss reports lost connections here and keeps polling; without a listener they would end the process
 		boss.on('error', (err) => console.error('[escapement] job queue:', err.message));
-		await boss.start();
-		await boss.createQueue(QUEUES.mail);
+		try {
+			await boss.start();
+			for (const name of Object.values(QUEUES)) await boss.createQueue(name);
+		} catch (err) {
+			booting = undefined; // a later call tries again (the database may be back)
+			throw err;
+		}
 		return boss;
 	})();
 	return booting;
 }
 
-/** Works the queues in this process (the web server). Safe to call more than once. */
+/** Works the mail queue in this process (the web server). Safe to call more than once. */
 export function startJobs(): Promise<void> {
 	working ??= (async () => {
 		const boss = await getBoss();
@@ -66,7 +82,7 @@ export async function queueMail(mail: OutgoingMail, tx?: Tx): Promise<void> {
 }
 
 export async function stopJobs(): Promise<void> {
-	const boss = booting && (await booting);
+	const boss = booting && (await booting.catch(() => undefined));
 	booting = undefined;
 	working = undefined;
 	await boss?.stop({ graceful: true, wait: true });

@@ -1,7 +1,9 @@
 import { fail, isHttpError, redirect } from '@sveltejs/kit';
 import { z } from 'zod';
 import { can, requireLab, requireUser, requireUserPage } from '$lib/server/access';
-import { conditionsInput, listAudits, previewAudit, runAudit } from '$lib/server/audits';
+import { conditionsInput, listAudits, previewAudit } from '$lib/server/audits';
+import { requestAudit } from '$lib/server/jobs/audit-job';
+import { activeJobsOfScheme } from '$lib/server/jobs/engine-jobs';
 import { countRevisions, getScheme, saveRevision, SchemeInputError } from '$lib/server/schemes';
 import { EngineError, type Audit } from '$lib/engine';
 import { notableCycles, violationCover } from '$lib/audit-cycles';
@@ -14,7 +16,7 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 	const user = requireUserPage(locals, url);
 	const { lab, role } = await requireLab(user, params.lab, 'read');
 	const scheme = await getScheme(lab.id, params.scheme);
-	const [revisionCount, audits] = await Promise.all([countRevisions(scheme.id), listAudits(lab.id, params.scheme)]);
+	const [revisionCount, audits, jobs] = await Promise.all([countRevisions(scheme.id), listAudits(lab.id, params.scheme), activeJobsOfScheme(lab.id, params.scheme)]);
 	let preview: Audit | null = null;
 	let previewError: string | null = null;
 	let previewSkipped: string | null = null;
@@ -56,6 +58,7 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 		},
 		revisionCount,
 		audits,
+		jobs: jobs.map((j) => ({ id: j.id, kind: j.kind, status: j.status, progress: j.progress, stage: j.stage, createdAt: j.createdAt })),
 		preview,
 		previewError,
 		previewSkipped,
@@ -84,15 +87,17 @@ export const actions: Actions = {
 		if (!conditions.success)
 			return fail(400, { form: 'run' as const, message: `The conditions are not valid: ${conditions.error.issues.map((i) => `${i.path.join('.') || 'conditions'}: ${i.message}`).join('; ')}.` });
 		const revision = Number(form.get('revision')) || undefined;
-		let audit;
+		let outcome;
 		try {
-			audit = await runAudit(access, params.scheme, { revision, conditions: conditions.data });
+			outcome = await requestAudit(access, params.scheme, { revision, conditions: conditions.data });
 		} catch (err) {
 			if (err instanceof EngineError) return fail(422, { form: 'run' as const, message: err.message });
 			if (isHttpError(err)) return fail(err.status, { form: 'run' as const, message: err.body.message });
 			throw err;
 		}
-		redirect(303, `/labs/${params.lab}/audits/${audit.id}`);
+		// past the work budget the audit runs as a job: its page shows the progress and leads to the audit
+		if (outcome.job) redirect(303, `/labs/${params.lab}/jobs/${outcome.job.id}`);
+		redirect(303, `/labs/${params.lab}/audits/${outcome.audit.id}`);
 	},
 
 	save: async ({ locals, params, request }) => {

@@ -1,9 +1,10 @@
 import { json } from '@sveltejs/kit';
 import { z } from 'zod';
 import { apiError, apiRoute, labFromEvent } from '$lib/server/api';
-import { getAudit } from '$lib/server/audits';
+import { getAuditSummary } from '$lib/server/audits';
+import { requestSweep } from '$lib/server/jobs/sweep-job';
+import { jobView } from '$lib/server/jobs/engine-jobs';
 import { SWEEP_MAX_POINTS, speciesOf } from '$lib/server/audit-curves';
-import { runEngine } from '$lib/server/engine-pool';
 import type { RequestHandler } from './$types';
 
 /** A malformed query answers 400 naming the parameter and what to give. */
@@ -32,14 +33,15 @@ const sweepQuery = z
 /**
  * Velocity of the audited scheme against the load (variable=force, pN, even spacing) or against one species'
  * concentration (variable=ATP etc., M, log spacing), every other condition as stored; with the stall force at the
- * stored conditions (null when the velocity does not change sign within ±1000 pN).
+ * stored conditions (null when the velocity does not change sign within ±1000 pN). Past the work budget (many points
+ * on a large scheme) it answers 202 with a job instead; the job's url gives the same document when it is done.
  */
 export const GET: RequestHandler = apiRoute(async (event) => {
 	const access = await labFromEvent(event, 'read');
 	const parsed = sweepQuery.safeParse(Object.fromEntries(event.url.searchParams));
 	if (!parsed.success) return queryError(parsed.error);
 	const query = parsed.data;
-	const audit = await getAudit(access.lab.id, event.params.audit);
+	const audit = await getAuditSummary(access.lab.id, event.params.audit);
 	const scheme = audit.inputs;
 	const isForce = query.variable === 'force';
 	if (!isForce) {
@@ -60,7 +62,13 @@ export const GET: RequestHandler = apiRoute(async (event) => {
 			{ path: query.from < -1000 ? 'from' : 'to', message: 'out of range for a load in pN' }
 		]);
 	}
-	const { points, stallForcePN } = await runEngine('sweep', { scheme, variable: query.variable, from: query.from, to: query.to, points: query.points });
+	const outcome = await requestSweep(access, audit, { variable: query.variable, from: query.from, to: query.to, points: query.points });
+	if (outcome.job) {
+		// past the work budget: a job computes the curve; its url reports progress and, when done, the points
+		const job = jobView(outcome.job, access.lab.slug);
+		return json({ job }, { status: 202, headers: { location: job.url } });
+	}
+	const { points, stallForcePN } = outcome.result;
 	return json({
 		variable: query.variable,
 		unit: isForce ? 'pN' : 'M',

@@ -1,7 +1,9 @@
 import { json } from '@sveltejs/kit';
 import { z } from 'zod';
 import { apiRoute, labFromEvent, readJson } from '$lib/server/api';
-import { conditionsInput, listAudits, runAudit } from '$lib/server/audits';
+import { conditionsInput, listAudits } from '$lib/server/audits';
+import { requestAudit } from '$lib/server/jobs/audit-job';
+import { jobView } from '$lib/server/jobs/engine-jobs';
 import type { RequestHandler } from './$types';
 
 /** The stored audits of a scheme, newest first. */
@@ -12,13 +14,21 @@ export const GET: RequestHandler = apiRoute(async (event) => {
 
 const auditBody = z.object({ revision: z.number().int().min(1).optional(), conditions: conditionsInput.optional() }).strict();
 
-/** Runs and stores an audit of a revision (the newest by default) at the given conditions. */
+/**
+ * Runs and stores an audit of a revision (the newest by default) at the given conditions: 201 with the audit, or,
+ * past the work budget, 202 with the job that will store it (poll its url for progress; its auditUrl when done).
+ */
 export const POST: RequestHandler = apiRoute(async (event) => {
 	const access = await labFromEvent(event, 'model');
 	// An empty body means the newest revision at its own conditions.
 	const raw = await event.request.text();
 	const body = raw.trim() === '' ? {} : await readJson(new Request(event.request.url, { method: 'POST', body: raw }), auditBody);
-	const audit = await runAudit(access, event.params.scheme, body);
+	const outcome = await requestAudit(access, event.params.scheme, body);
+	if (outcome.job) {
+		const job = jobView(outcome.job, access.lab.slug);
+		return json({ job }, { status: 202, headers: { location: job.url } });
+	}
+	const audit = outcome.audit;
 	return json(
 		{
 			audit: {
