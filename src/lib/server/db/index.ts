@@ -21,6 +21,11 @@ pool.on('error', (err) => {
 	// An idle client lost its connection; the pool drops it and opens a new one on the next query.
 	markDatabaseDown(err);
 });
+pool.on('connect', (client) => {
+	// The pool listens to idle clients only: a client checked out between two queries of a transaction that loses its
+	// connection emits 'error' with no listener, which would end the process. Its pending query fails on its own.
+	client.on('error', (err) => markDatabaseDown(err));
+});
 export const db = drizzle(pool, { schema });
 export type Db = typeof db;
 export type Tx = Parameters<Parameters<Db['transaction']>[0]>[0];
