@@ -7,6 +7,7 @@ import { startJobs, stopJobs } from '$lib/server/jobs';
 import { closeDb, DATABASE_DOWN_MESSAGE, databaseDownSince, isDatabaseDown, markDatabaseDown } from '$lib/server/db';
 import { closeEnginePool } from '$lib/server/engine-pool';
 import { logRefusal } from '$lib/server/activity';
+import { jsonTextIssues, textProblem, type InputIssue } from '$lib/server/input-guard';
 
 export const init: ServerInit = async () => {
 	// Fail fast with a clear message when the environment is incomplete.
@@ -45,6 +46,72 @@ const sameOrigin: Handle = async ({ event, resolve }) => {
 		return url.pathname.startsWith('/api/')
 			? json({ error: { code: 'cross_site', message, details: null } }, { status: 403 })
 			: text(message, { status: 403 });
+	}
+	return resolve(event);
+};
+
+/** Larger bodies are refused before they are read (rate tables are at most 10 MB; the import says so itself). */
+export const MAX_BODY_BYTES = 12 * 1024 * 1024;
+
+function refuse(event: Parameters<Handle>[0]['event'], status: number, code: string, message: string, details: unknown = null): Response {
+	return event.url.pathname.startsWith('/api/')
+		? json({ error: { code, message, details } }, { status })
+		: text(message, { status, headers: { 'content-type': 'text/plain; charset=utf-8' } });
+}
+
+/**
+ * Hostile bodies answered with a 4xx that names what is wrong, before any handler: too large (413), a multipart or
+ * form body that does not parse, text with NUL, lone surrogates or bidi overrides (input-guard.ts). The body is read
+ * from a clone, so the handler still reads it itself. Refusals go to the activity log.
+ */
+const inputGuard: Handle = async ({ event, resolve }) => {
+	const { request } = event;
+	if (SAFE_METHODS.has(request.method)) return resolve(event);
+	const length = Number(request.headers.get('content-length') ?? 0);
+	if (length > MAX_BODY_BYTES) {
+		await logRefusal(event, 'too-large', `Refused a ${Math.round(length / 1024 / 1024)} MB body to ${event.url.pathname}`);
+		return refuse(event, 413, 'too_large', `The request body is ${(length / 1024 / 1024).toFixed(1)} MB; the limit is ${MAX_BODY_BYTES / 1024 / 1024} MB (rate tables up to 10 MB).`);
+	}
+	const type = (request.headers.get('content-type') ?? '').split(';')[0].trim().toLowerCase();
+	let issues: InputIssue[] = [];
+	try {
+		if (type === 'application/json') {
+			const raw = await request.clone().text();
+			if (raw.length > MAX_BODY_BYTES) return refuse(event, 413, 'too_large', `The request body is larger than ${MAX_BODY_BYTES / 1024 / 1024} MB.`);
+			let parsed: unknown;
+			try {
+				parsed = JSON.parse(raw);
+			} catch {
+				parsed = undefined; // the handler answers malformed JSON itself
+			}
+			issues = jsonTextIssues(parsed);
+		} else if (type === 'multipart/form-data' || type === 'application/x-www-form-urlencoded') {
+			let form: FormData;
+			try {
+				form = await request.clone().formData();
+			} catch (err) {
+				if ((err as { status?: number }).status === 413) throw err;
+				await logRefusal(event, 'malformed-form', `Refused a form body to ${event.url.pathname} that does not parse`);
+				return refuse(event, 400, 'invalid', `The ${type} body cannot be read (broken boundary or encoding). Send the form again; from a script, let the HTTP library build the multipart body.`, [{ path: 'body', message: 'malformed form data' }]);
+			}
+			for (const [name, value] of form) {
+				const fieldProblem = textProblem(name);
+				if (fieldProblem) issues.push({ path: name.slice(0, 40), message: `the field name ${fieldProblem}` });
+				const problem = typeof value === 'string' ? textProblem(value) : textProblem(value.name) && `the file name ${textProblem(value.name)}`;
+				if (problem) issues.push({ path: name.slice(0, 40), message: problem });
+			}
+		}
+	} catch (err) {
+		if ((err as { status?: number }).status === 413) {
+			await logRefusal(event, 'too-large', `Refused a body over the size limit to ${event.url.pathname}`);
+			return refuse(event, 413, 'too_large', `The request body is larger than the limit (${MAX_BODY_BYTES / 1024 / 1024} MB; rate tables up to 10 MB).`);
+		}
+		throw err;
+	}
+	if (issues.length) {
+		await logRefusal(event, 'hostile-text', `Refused input to ${event.url.pathname}: ${issues[0].path} ${issues[0].message.slice(0, 80)}`);
+		const first = issues[0];
+		return refuse(event, 400, 'invalid', `${first.path === '$' ? 'The body' : `The field ${first.path}`} ${first.message}. Nothing was saved.`, issues);
 	}
 	return resolve(event);
 };
@@ -104,7 +171,7 @@ function unavailable(pathname: string): Response {
 	});
 }
 
-export const handle = sequence(databaseGate, sameOrigin, authHandle, identify, securityHeaders);
+export const handle = sequence(databaseGate, sameOrigin, authHandle, identify, inputGuard, securityHeaders);
 
 export const handleError: HandleServerError = ({ error, event, status }) => {
 	if (isDatabaseDown(error)) {

@@ -22,6 +22,12 @@ export const ENGINE_VERSION = '0.1.0';
  */
 export const SCHEME_LIMITS = { states: 5000, steps: 5000 } as const;
 
+/**
+ * Longest ids and species names, labels and scheme name, in characters (a 5 MB label once made a 25 MB page), and
+ * the largest concentration in mol/L (1e308 M overflowed the rates to infinity).
+ */
+export const TEXT_LIMITS = { id: 100, label: 200, name: 200, concentrationM: 1000 } as const;
+
 export interface SchemeState {
 	id: string;
 	label?: string;
@@ -72,7 +78,10 @@ export interface SchemeError {
 export type ParseResult = { ok: true; scheme: Scheme } | { ok: false; errors: SchemeError[] };
 
 const text = (what: string) =>
-	z.string({ error: `${what} must be a non-empty string` }).min(1, { error: `${what} must not be empty` });
+	z
+		.string({ error: `${what} must be a non-empty string` })
+		.min(1, { error: `${what} must not be empty` })
+		.max(TEXT_LIMITS.id, { error: `${what} is longer than ${TEXT_LIMITS.id} characters; use a short id` });
 const finite = (what: string) => z.number({ error: `${what} must be a finite number` });
 const rate = (what: string, per: string) =>
 	z
@@ -85,8 +94,19 @@ const uncertainty = (what: string) =>
 		.nullable()
 		.default(null);
 
+const speciesKey = z
+	.string()
+	.min(1, { error: 'species names must not be empty' })
+	.max(TEXT_LIMITS.id, { error: `species names must be at most ${TEXT_LIMITS.id} characters` });
+
 const stateSchema = z.object(
-	{ id: text('state id'), label: z.string({ error: 'label must be a string' }).optional() },
+	{
+		id: text('state id'),
+		label: z
+			.string({ error: 'label must be a string' })
+			.max(TEXT_LIMITS.label, { error: `label is longer than ${TEXT_LIMITS.label} characters; keep it short (details go in the description)` })
+			.optional()
+	},
 	{ error: 'each state must be an object like { "id": "A" }' }
 );
 
@@ -115,7 +135,7 @@ const reactionSchema = z.object(
 	{
 		id: text('reaction id'),
 		stoichiometry: z.record(
-			z.string(),
+			speciesKey,
 			z.number({ error: 'stoichiometric coefficients must be finite numbers (−1 taken up, +1 released)' }),
 			{ error: 'stoichiometry must be an object like { "ATP": -1, "ADP": 1, "Pi": 1 }' }
 		),
@@ -129,7 +149,10 @@ export const schemeSchema = z.object(
 		format: z
 			.literal(SCHEME_FORMAT, { error: `format must be "${SCHEME_FORMAT}" (or leave it out)` })
 			.default(SCHEME_FORMAT),
-		name: z.string({ error: 'name must be a string' }).default(''),
+		name: z
+			.string({ error: 'name must be a string' })
+			.max(TEXT_LIMITS.name, { error: `name is longer than ${TEXT_LIMITS.name} characters` })
+			.default(''),
 		temperatureK: z
 			.number({ error: 'temperatureK must be a number in kelvin' })
 			.positive({ error: 'temperatureK must be above 0 K (298.15 is 25 °C)' })
@@ -142,10 +165,11 @@ export const schemeSchema = z.object(
 			.default(null),
 		concentrationsM: z
 			.record(
-				z.string(),
+				speciesKey,
 				z
 					.number({ error: 'concentrations must be numbers in mol/L' })
-					.positive({ error: 'concentrations must be above 0 M; for "none added" give a small value such as 1e-9' }),
+					.positive({ error: 'concentrations must be above 0 M; for "none added" give a small value such as 1e-9' })
+					.max(TEXT_LIMITS.concentrationM, { error: `concentrations must be at most ${TEXT_LIMITS.concentrationM} M (pure water is 55 M); check the unit` }),
 				{ error: 'concentrationsM must be an object like { "ATP": 1e-3 }' }
 			)
 			.default({}),
@@ -215,7 +239,7 @@ function crossCheck(raw: Loose): SchemeError[] {
 		}
 		if (isObject(reaction.stoichiometry)) {
 			for (const species of Object.keys(reaction.stoichiometry))
-				if (!(species in concentrations))
+				if (!Object.hasOwn(concentrations, species))
 					errors.push({
 						path: formatPath(['reactions', i, 'stoichiometry', species]),
 						message: `species "${species}" has no concentration; add it to concentrationsM (mol/L)`
@@ -254,7 +278,7 @@ function crossCheck(raw: Loose): SchemeError[] {
 			});
 		for (const list of ['binds', 'releases'] as const)
 			asArray(step[list]).forEach((species, j) => {
-				if (typeof species === 'string' && species && !(species in concentrations))
+				if (typeof species === 'string' && species && !Object.hasOwn(concentrations, species))
 					errors.push({
 						path: `steps[${i}].${list}[${j}]`,
 						message: `species "${species}" has no concentration; add it to concentrationsM (mol/L)`

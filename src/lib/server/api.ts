@@ -35,6 +35,8 @@ export function apiRoute<E extends RequestEvent>(handler: (event: E) => Promise<
 			// The engine refuses schemes it cannot audit as entered (e.g. zero rates that split it into closed classes).
 			if (err instanceof EngineError) return apiError(422, 'engine', err.message);
 			if (err instanceof Response) throw err;
+			// The body stream refused past BODY_SIZE_LIMIT (adapter-node) while the handler read it.
+			if ((err as { status?: number }).status === 413) return apiError(413, 'too_large', 'The request body is larger than the server accepts (rate tables up to 10 MB).');
 			if (isDatabaseDown(err)) {
 				markDatabaseDown(err);
 				return apiError(503, 'database_unavailable', DATABASE_DOWN_MESSAGE);

@@ -10,6 +10,7 @@ import { can, type LabAccess } from './access';
 import { logActivity } from './activity';
 import { sha256Hex } from './canonical';
 import { parseScheme, type Scheme } from '../engine';
+import { schemeIdIssues } from './input-guard';
 
 export interface SourceFile {
 	fileName: string;
@@ -32,6 +33,9 @@ function requireModeller(access: LabAccess) {
 
 /** Validates a scheme document with the engine; throws SchemeInputError listing every problem. */
 export function validScheme(input: unknown): Scheme {
+	// Look-alike, invisible and reserved ids first: on the raw document, before a parser drops keys like __proto__.
+	const hostile = schemeIdIssues(input);
+	if (hostile.length) throw new SchemeInputError(hostile);
 	const parsed = parseScheme(input);
 	if (!parsed.ok) throw new SchemeInputError(parsed.errors);
 	return parsed.scheme;

@@ -4,6 +4,7 @@
  * verdicts are words, so the sheet reads the same printed in black and white (the fill colour only
  * repeats what the word says). Missing values (an irreversible cycle's ratio) are empty cells.
  */
+import { neutralise } from './export-csv';
 import ExcelJS from 'exceljs';
 import { formatEquation, type Audit, type Scheme } from '../../engine/index';
 import {
@@ -34,6 +35,15 @@ export const EXPORT_SHEETS = {
 const HEADER_FILL: ExcelJS.Fill = { type: 'pattern', pattern: 'solid', fgColor: { argb: 'FFE8EEF2' } };
 const VERDICT_FILL: Record<string, string> = { consistent: 'FFE3F1E6', violation: 'FFF7DEDB', irreversible: 'FFF3EBD6', unbalanced: 'FFEDE4F3' };
 
+/**
+ * Text is written as text, never as a formula: a label like `=HYPERLINK(…)` gets the same leading apostrophe as in
+ * the CSV export, so re-editing the cell or saving the sheet as CSV cannot bring it to life (OWASP "CSV Injection").
+ */
+function asCell(v: string | number | null | undefined): string | number | null {
+	if (v === null || v === undefined) return null;
+	return typeof v === 'string' ? neutralise(v) : v;
+}
+
 function writeTable(wb: ExcelJS.Workbook, sheetName: string, table: AuditTable): ExcelJS.Worksheet {
 	const ws = wb.addWorksheet(sheetName, { views: [{ state: 'frozen', ySplit: 1 }] });
 	ws.columns = table.columns.map((c) => ({ header: c.header, width: c.width }));
@@ -43,7 +53,7 @@ function writeTable(wb: ExcelJS.Workbook, sheetName: string, table: AuditTable):
 	table.columns.forEach((_, i) => (header.getCell(i + 1).fill = HEADER_FILL));
 	const verdictCol = table.columns.findIndex((c) => c.header === 'verdict');
 	for (const values of table.rows) {
-		const row = ws.addRow(values.map((v) => (v === null ? null : v)));
+		const row = ws.addRow(values.map(asCell));
 		table.columns.forEach((c, i) => {
 			if (c.numFmt && typeof values[i] === 'number') row.getCell(i + 1).numFmt = c.numFmt;
 		});
@@ -59,7 +69,7 @@ function writeTable(wb: ExcelJS.Workbook, sheetName: string, table: AuditTable):
 function keyValueSheet(wb: ExcelJS.Workbook, name: string, rows: (string | number | null)[][], widths = [34, 70, 14]): ExcelJS.Worksheet {
 	const ws = wb.addWorksheet(name);
 	ws.columns = widths.map((width) => ({ width }));
-	for (const r of rows) ws.addRow(r);
+	for (const r of rows) ws.addRow(r.map(asCell));
 	return ws;
 }
 

@@ -131,6 +131,11 @@ export function checkXlsxContainer(bytes: Uint8Array, fileName: string): ZipEntr
 		entries.push({ name: c.name, data });
 	}
 
+	// A workbook renamed from .xlsm still carries its macros: refuse it whatever its name says.
+	const types = entries.find((e) => e.name === '[Content_Types].xml')?.data.toString('utf8') ?? '';
+	if (entries.some((e) => /(^|\/)vbaProject\.bin$/i.test(e.name)) || /macroEnabled/i.test(types)) {
+		refuse(fileName, 'The workbook contains macros (a VBA project). Macros are not accepted: every member could download the file. Save the rate table as a macro-free .xlsx workbook and upload that.');
+	}
 	if (!entries.some((e) => e.name === 'xl/workbook.xml')) {
 		refuse(fileName, 'The file is a zip archive but not an .xlsx workbook (it has no xl/workbook.xml). Save the rate table from a spreadsheet program as .xlsx.');
 	}

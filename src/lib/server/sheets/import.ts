@@ -10,6 +10,7 @@ import { readCsv } from './read-csv';
 import { readXlsx } from './read-xlsx';
 import { cellForPath, cellKey, toSchemeJson } from './to-scheme';
 import { FileRefused, IssueList, type SheetIssue, type SourceBook } from './types';
+import { schemeIdIssues } from '../input-guard';
 
 export type ImportResult =
 	| { ok: true; scheme: Scheme; warnings: SheetIssue[] }
@@ -39,11 +40,40 @@ function capitalise(s: string): string {
 }
 
 export async function importRateTable(bytes: Uint8Array, fileName: string): Promise<ImportResult> {
+	const result = await importUncapped(bytes, fileName.slice(0, 200));
+	return result.ok
+		? { ...result, warnings: result.warnings.map(capEcho) }
+		: { ...result, errors: result.errors.map(capEcho), warnings: result.warnings.map(capEcho) };
+}
+
+const ECHO_CHARS = 60;
+const MESSAGE_CHARS = 600;
+
+/**
+ * Messages quote the cell they are about; a 9 MB cell must not come back whole. Quoted text past ECHO_CHARS is cut
+ * (saying how long it was), and a message is never longer than MESSAGE_CHARS.
+ */
+export function capEcho(issue: SheetIssue): SheetIssue {
+	// Split on quotes rather than a regular expression: a regex over 9 MB overflows the stack.
+	const parts = issue.message.split('"');
+	for (let i = 1; i < parts.length - 1; i += 2) {
+		if (parts[i].length <= 80) continue;
+		parts[i + 1] = ` (${parts[i].length} characters)${parts[i + 1]}`;
+		parts[i] = `${parts[i].slice(0, ECHO_CHARS)}…`;
+	}
+	let message = parts.join('"');
+	if (message.length > MESSAGE_CHARS) message = `${message.slice(0, MESSAGE_CHARS)}… (message cut; the cell holds very long text)`;
+	return { ...issue, sheet: issue.sheet.slice(0, 200), message };
+}
+
+async function importUncapped(bytes: Uint8Array, fileName: string): Promise<ImportResult> {
 	const issues = new IssueList();
 	const ext = /\.([A-Za-z0-9]+)$/.exec(fileName)?.[1]?.toLowerCase() ?? '';
 	try {
 		let book: SourceBook;
-		if (ext === 'xlsx' || ext === 'xlsm') book = await readXlsx(bytes, fileName, issues);
+		if (ext === 'xlsm' || ext === 'xltm' || ext === 'xlam')
+			throw new FileRefused({ sheet: fileName, row: null, column: null, message: `Workbooks with macros (.${ext}) are not accepted: every member could download it. Save the rate table as a macro-free .xlsx workbook and upload that.` });
+		if (ext === 'xlsx') book = await readXlsx(bytes, fileName, issues);
 		else if (ext === 'csv' || ext === 'tsv' || ext === 'txt') book = readCsv(bytes, fileName, issues);
 		else if (ext === 'xls' || ext === 'ods' || ext === 'numbers') {
 			throw new FileRefused({ sheet: fileName, row: null, column: null, message: `.${ext} files are not read. Save the rate table as .xlsx (or CSV UTF-8) and upload that.` });
@@ -53,10 +83,11 @@ export async function importRateTable(bytes: Uint8Array, fileName: string): Prom
 		const draft = toSchemeJson(book, issues);
 		if (draft.json.steps.length === 0) return { ok: false, errors: sortIssues(issues.errors), warnings: sortIssues(issues.warnings) };
 		const parsed = parseScheme(draft.json);
-		if (!parsed.ok) {
+		const hostile = schemeIdIssues(draft.json);
+		if (!parsed.ok || hostile.length) {
 			const fallback = { sheet: book.steps.sheet, row: null, column: null };
 			const seen = new Set<string>();
-			for (const e of parsed.errors) {
+			for (const e of [...hostile, ...(parsed.ok ? [] : parsed.errors)]) {
 				const where = cellForPath(draft, e.path) ?? fallback;
 				if (draft.flagged.has(cellKey(where))) continue;
 				const message = `${capitalise(sheetWords(e.message))}.`.replace(/\.\.$/, '.');
@@ -66,7 +97,7 @@ export async function importRateTable(bytes: Uint8Array, fileName: string): Prom
 				issues.error(where, message);
 			}
 		}
-		if (issues.errors.length > 0 || !parsed.ok) {
+		if (issues.errors.length > 0 || !parsed.ok || hostile.length) {
 			return { ok: false, errors: sortIssues(issues.errors), warnings: sortIssues(issues.warnings) };
 		}
 		return { ok: true, scheme: parsed.scheme, warnings: sortIssues(issues.warnings) };
