@@ -30,7 +30,8 @@ afterAll(async () => {
 });
 
 const schemesOfLab = async () => (await db.select({ n: count() }).from(schema.schemes).where(eq(schema.schemes.labId, lab.lab.id)))[0].n;
-const revisions = async () => (await db.select({ n: count() }).from(schema.schemeRevisions))[0].n;
+const revisions = async () =>
+	(await db.select({ n: count() }).from(schema.schemeRevisions).innerJoin(schema.schemes, eq(schema.schemes.id, schema.schemeRevisions.schemeId)).where(eq(schema.schemes.labId, lab.lab.id)))[0].n;
 
 /** Calls `send`, expects a 4xx whose body names `field`, and that no scheme or revision was saved. */
 async function refused(send: () => Promise<Response>, field: RegExp, status?: number) {
