@@ -5,7 +5,7 @@
  *
  * Source: Kirchhoff 1847; Tutte's directed matrix-tree theorem; King & Altman 1956, J Phys Chem 60:1375;
  * Hill 1966, J Theor Biol 10:442 [pub]; GTH elimination, Grassmann, Taksar & Heyman 1985 [pub]. Net fluxes:
- * p is refined twice against residuals p·L evaluated in double-double (Dekker 1971, Numer Math 18:224 [pub];
+ * p is refined against residuals p·L evaluated in double-double (once, unless the correction was large) (Dekker 1971, Numer Math 18:224 [pub];
  * iterative refinement with extended-precision residuals, Wilkinson 1963 [pub]), the chords of a spanning tree of
  * the fastest steps get p_from·k+ − p_to·k− in double-double, and the tree steps follow by Kirchhoff's current law
  * [pub], which makes a dead end's net flux exactly 0 and keeps flux balance to rounding.
@@ -32,7 +32,8 @@ export interface SteadyState {
 	logSigma: number;
 }
 
-const REFINEMENTS = 2;
+/** At most this many refinement steps; one suffices unless net fluxes cancel strongly. */
+const REFINEMENTS = 3;
 
 function nameStates(err: unknown, table: RateTable): never {
 	// GTH knows state numbers only; name the states
@@ -107,13 +108,19 @@ function refine(table: RateTable, factor: GthFactor, p: Float64Array): Float64Ar
 	const rLo = new Float64Array(n);
 	const t = dd();
 	const u = dd();
+	const minusR = new Float64Array(n);
 	for (let it = 0; it < REFINEMENTS; it++) {
 		rHi.fill(0);
 		rLo.fill(0);
+		let cancel = 1;
 		for (let s = 0; s < m; s++) {
 			const a = from[s];
 			const b = to[s];
 			netDD(p[a], lo[a], kPlus[s], p[b], lo[b], kMinus[s], t, u);
+			// how far one-way fluxes dwarf the net one (true zeros, below double-double resolution, aside)
+			const oneWay = p[a] * kPlus[s] + p[b] * kMinus[s];
+			const net = Math.abs(t[0]);
+			if (net > 1e-28 * oneWay) cancel = Math.max(cancel, oneWay / net);
 			// (p·L)_a gains the net outflow of a, (p·L)_b loses it
 			ddAdd(rHi[a], rLo[a], t[0], t[1], u);
 			rHi[a] = u[0];
@@ -122,7 +129,6 @@ function refine(table: RateTable, factor: GthFactor, p: Float64Array): Float64Ar
 			rHi[b] = u[0];
 			rLo[b] = u[1];
 		}
-		const minusR = new Float64Array(n);
 		let any = false;
 		for (let i = 0; i < n; i++) {
 			minusR[i] = -(rHi[i] + rLo[i]);
@@ -132,8 +138,10 @@ function refine(table: RateTable, factor: GthFactor, p: Float64Array): Float64Ar
 		const delta = solveLeft(factor, minusR);
 		let totHi = 0;
 		let totLo = 0;
+		let largest = 0;
 		for (let i = 0; i < n; i++) {
 			if (p[i] === 0) continue; // transient states stay exactly 0
+			largest = Math.max(largest, Math.abs(delta[i]) / p[i]);
 			ddAdd(p[i], lo[i], delta[i], 0, u);
 			p[i] = u[0];
 			lo[i] = u[1];
@@ -151,6 +159,9 @@ function refine(table: RateTable, factor: GthFactor, p: Float64Array): Float64Ar
 			p[i] = u[0];
 			lo[i] = u[1];
 		}
+		// the next correction would change p by about largest·(its relative error): stop when that cannot move a net
+		// flux by more than 1e-16 of itself even where one-way fluxes are `cancel` times larger
+		if (largest * cancel < 1e-14) break;
 	}
 	return lo;
 }
