@@ -14,6 +14,7 @@ import { NOTABLE_CYCLES } from '../../src/lib/audit-cycles';
 import { DIAGRAM_LIMITS } from '../../src/lib/components/diagram-layout';
 import SchemeTables from '../../src/routes/(app)/labs/[lab]/schemes/SchemeTables.svelte';
 import SchemeDiagram from '../../src/lib/components/SchemeDiagram.svelte';
+import SteadyStateTables from '../../src/routes/(app)/labs/[lab]/audits/[audit]/SteadyStateTables.svelte';
 import { draftOf } from '../../src/routes/(app)/labs/[lab]/schemes/scheme-draft';
 import { load } from '../../src/routes/(app)/labs/[lab]/schemes/[scheme]/+page.server';
 
@@ -88,5 +89,16 @@ describe('scheme page of a 5,000-step scheme', () => {
 		expect(body).toContain('data-testid="diagram-too-large"');
 		expect(body).toMatch(/2,500 states and 5,000 steps are more than a diagram can draw/);
 		expect(body).not.toContain('<svg');
+	});
+
+	it('draws the first 200 state and step rows of an audit of it, the rest on request [der]', () => {
+		const results = {
+			states: big.states.map((st) => ({ id: st.id, probability: 1 / STATES, probabilityLog10: -Math.log10(STATES) })),
+			steps: big.steps.map((st) => ({ id: st.id, forwardRate: st.kForward, backwardRate: st.kBackward, netFlux: 0 }))
+		};
+		const { body } = render(SteadyStateTables, { props: { results: results as never, scheme: big } });
+		expect(count(body, '<tr>')).toBe(2 + 200 + 200);
+		expect(body).toMatch(/Show 200 more \(200 of 2,500 shown\)/);
+		expect(body).toMatch(/Show 200 more \(200 of 5,000 shown\)/);
 	});
 });
