@@ -53,6 +53,7 @@ describe('scheme page of a 5,000-step scheme', () => {
 		expect(data.preview).toBeNull();
 		expect(data.previewSkipped).toMatch(/2,500 states and 5,000 steps; live results are computed on opening only up to/);
 		expect(data.revisionCount).toBe(1);
+		expect([data.auditCount, data.audits.length]).toEqual([0, 0]);
 		// the revision document, some 200 bytes a step, and nothing per state × step
 		expect(JSON.stringify(data).length).toBeLessThan(400 * STEPS);
 	});

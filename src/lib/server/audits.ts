@@ -125,9 +125,10 @@ export async function storeAudit(
 	return tx ? write(tx) : db.transaction(write);
 }
 
-export async function listAudits(labId: string, schemeId: string) {
+/** The stored audits of a scheme, newest first; `limit` for a page that shows only the newest. */
+export async function listAudits(labId: string, schemeId: string, limit?: number) {
 	await getScheme(labId, schemeId);
-	return db
+	const query = db
 		.select({
 			id: schema.audits.id,
 			createdAt: schema.audits.createdAt,
@@ -141,7 +142,18 @@ export async function listAudits(labId: string, schemeId: string) {
 		.innerJoin(schema.schemeRevisions, eq(schema.schemeRevisions.id, schema.audits.revisionId))
 		.innerJoin(schema.users, eq(schema.users.id, schema.audits.createdBy))
 		.where(and(eq(schema.audits.labId, labId), eq(schema.audits.schemeId, schemeId)))
-		.orderBy(desc(schema.audits.createdAt));
+		.orderBy(desc(schema.audits.createdAt))
+		.$dynamic();
+	return limit ? query.limit(limit) : query;
+}
+
+/** How many audits a scheme has stored. */
+export async function countAudits(labId: string, schemeId: string): Promise<number> {
+	const [row] = await db
+		.select({ n: sql<number>`count(*)::int` })
+		.from(schema.audits)
+		.where(and(eq(schema.audits.labId, labId), eq(schema.audits.schemeId, schemeId)));
+	return row?.n ?? 0;
 }
 
 /**

@@ -1,7 +1,7 @@
 import { fail, isHttpError, redirect } from '@sveltejs/kit';
 import { z } from 'zod';
 import { can, requireLab, requireUser, requireUserPage } from '$lib/server/access';
-import { conditionsInput, listAudits, previewAudit } from '$lib/server/audits';
+import { conditionsInput, countAudits, listAudits, previewAudit } from '$lib/server/audits';
 import { requestAudit } from '$lib/server/jobs/audit-job';
 import { activeJobsOfScheme } from '$lib/server/jobs/engine-jobs';
 import { countRevisions, getScheme, saveRevision, SchemeInputError } from '$lib/server/schemes';
@@ -11,12 +11,19 @@ import type { Actions, PageServerLoad } from './$types';
 
 /** The largest scheme whose live results the page computes on opening. */
 const LIVE_PREVIEW_MAX = { states: 200, steps: 400 };
+/** The newest stored audits listed on the page; all of them through GET …/schemes/{scheme}/audits. */
+const AUDITS_SHOWN = 50;
 
 export const load: PageServerLoad = async ({ locals, params, url }) => {
 	const user = requireUserPage(locals, url);
 	const { lab, role } = await requireLab(user, params.lab, 'read');
 	const scheme = await getScheme(lab.id, params.scheme);
-	const [revisionCount, audits, jobs] = await Promise.all([countRevisions(scheme.id), listAudits(lab.id, params.scheme), activeJobsOfScheme(lab.id, params.scheme)]);
+	const [revisionCount, audits, auditCount, jobs] = await Promise.all([
+		countRevisions(scheme.id),
+		listAudits(lab.id, params.scheme, AUDITS_SHOWN),
+		countAudits(lab.id, params.scheme),
+		activeJobsOfScheme(lab.id, params.scheme)
+	]);
 	let preview: Audit | null = null;
 	let previewError: string | null = null;
 	let previewSkipped: string | null = null;
@@ -57,6 +64,7 @@ export const load: PageServerLoad = async ({ locals, params, url }) => {
 			createdByName: scheme.latest.createdByName ?? null
 		},
 		revisionCount,
+		auditCount,
 		audits,
 		jobs: jobs.map((j) => ({ id: j.id, kind: j.kind, status: j.status, progress: j.progress, stage: j.stage, createdAt: j.createdAt })),
 		preview,
