@@ -32,6 +32,11 @@ if needs_build; then build_app; else say "build is up to date"; fi
 (cd "$ROOT" && exec node --import tsx scripts/mail-sink.ts) > "$ROOT/.data/load-mail-sink.log" 2>&1 &
 children+=($!)
 export SMTP_URL="smtp://127.0.0.1:$SMTP_SINK_PORT"
+# the engine worker, as npm start runs one: audits past the work budget become its jobs
+if [ -f "$ROOT/scripts/worker.ts" ]; then
+  (cd "$ROOT" && exec node --import tsx scripts/worker.ts) > "$ROOT/.data/load-worker.log" 2>&1 &
+  children+=($!)
+fi
 (cd "$ROOT" && exec node build) > "$ROOT/.data/load-server.log" 2>&1 &
 server=$!; children+=($server)
 for _ in $(seq 1 60); do port_in_use "$PORT" && break; kill -0 "$server" 2>/dev/null || break; sleep 0.5; done
