@@ -7,7 +7,7 @@
 import Decimal from 'decimal.js';
 import { describe, expect, it } from 'vitest';
 import { auditScheme } from './audit';
-import { observables, velocityAt } from './observables';
+import { observables, velocityAt, velocityWithError } from './observables';
 import { preciseAnalysis } from './precise';
 import { effectiveRates } from './rates';
 import { mulberry32, plainScheme, plainStep, randomScheme } from './random-scheme';
@@ -193,9 +193,13 @@ describe('dead ends and stiff random schemes against the 80-digit path (Koza 199
 		const s = stiffRandom(seed);
 		const precise = preciseAnalysis(s, [], { motion: true });
 		const table = effectiveRates(s);
-		const J = stepFluxes(table, steadyState(table));
+		const ss = steadyState(table);
+		const J = stepFluxes(table, ss);
 		const o = observables(s);
 		expect(rel(o.velocityNmPerS, precise.velocity!)).toBeLessThan(1e-12);
+		// the error V reports (for searches over load) bounds its true error
+		const { velocity, velocityError } = velocityWithError(table, ss);
+		expect(Math.abs(precise.velocity!.sub(velocity).toNumber())).toBeLessThanOrEqual(velocityError);
 		expect(rel(o.diffusionNm2PerS, precise.diffusion!)).toBeLessThan(1e-12);
 		precise.netFlux.forEach((ref, k) => {
 			const oneWay = precise.probabilities[table.from[k]].mul(precise.kPlus[k]);

@@ -225,9 +225,17 @@ export function observables(scheme: Scheme): Observables {
 	return observablesOf(scheme, table, ss, chemistryModel(scheme, table.kT));
 }
 
+/**
+ * V of a steady state with its estimated absolute error (computation only; V within the rates' own resolution is
+ * already 0), without D's Poisson solve: for searches over load that need the sign of V and how far to trust it.
+ */
+export function velocityWithError(table: RateTable, ss: SteadyState): { velocity: number; velocityError: number } {
+	const flows = stepFlows(table, ss);
+	return chordVelocity(table.n, flows, chordDisplacements(table, flows));
+}
+
 /** Mean velocity (nm/s) at an opposing load (pN); the fast path for plotting V against load. */
 export function velocityAt(scheme: Scheme, forcePN: number): number {
 	const table = effectiveRates(withConditions(scheme, { forcePN }));
-	const flows = stepFlows(table, steadyState(table));
-	return chordVelocity(table.n, flows, chordDisplacements(table, flows)).velocity;
+	return velocityWithError(table, steadyState(table)).velocity;
 }
