@@ -87,7 +87,7 @@ function velocityWithError(loaded: LoadedRates, forcePN: number, live: LiveParts
 
 /**
  * The rate table at any load from the unloaded one: k+ = k+(0)·exp(−θ·F·d/kBT), k− = k−(0)·exp((1−θ)·F·d/kBT), as
- * rates.ts computes them, without rebuilding the scheme for every evaluation (one table, refilled).
+ * rates.ts computes them (and their logarithms), without rebuilding the scheme for every evaluation (one table, refilled).
  */
 interface LoadedRates {
 	at(forcePN: number): RateTable;
@@ -95,7 +95,8 @@ interface LoadedRates {
 
 function loadedRates(scheme: Scheme): LoadedRates {
 	const unloaded = effectiveRates(withConditions(scheme, { forcePN: 0 }));
-	const table: RateTable = { ...unloaded, kPlus: new Float64Array(unloaded.m), kMinus: new Float64Array(unloaded.m) };
+	const m = unloaded.m;
+	const table: RateTable = { ...unloaded, kPlus: new Float64Array(m), kMinus: new Float64Array(m), lnPlus: new Float64Array(m), lnMinus: new Float64Array(m) };
 	const forward = Float64Array.from(scheme.steps, (st) => (-st.loadFraction * st.displacementNm) / unloaded.kT);
 	const backward = Float64Array.from(scheme.steps, (st) => ((1 - st.loadFraction) * st.displacementNm) / unloaded.kT);
 	return {
@@ -103,6 +104,8 @@ function loadedRates(scheme: Scheme): LoadedRates {
 			for (let s = 0; s < table.m; s++) {
 				table.kPlus[s] = unloaded.kPlus[s] * Math.exp(forward[s] * F);
 				table.kMinus[s] = unloaded.kMinus[s] * Math.exp(backward[s] * F);
+				table.lnPlus[s] = unloaded.lnPlus[s] + forward[s] * F;
+				table.lnMinus[s] = unloaded.lnMinus[s] + backward[s] * F;
 			}
 			return table;
 		}
