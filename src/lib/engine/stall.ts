@@ -20,6 +20,7 @@
  */
 import type { Cycle } from './cycles';
 import { effectiveRates, withConditions, type RateTable } from './rates';
+import { velocityWithError } from './observables';
 import { EngineError, type Scheme } from './scheme';
 import { steadyState } from './steady-state';
 
@@ -61,28 +62,20 @@ export interface StallSearch {
 const fmt = (x: number) => Number(x.toPrecision(4)).toString();
 
 /**
- * V at a load with a bound on its rounding error: the step sum Σ (p_from·k+ − p_to·k−)·d errs by a few ε per term
- * of the one-way sum Σ (p_from·k+ + p_to·k−)·|d| (GTH gives every p with a small relative error) [der].
- * A sign is trusted only where |V| exceeds that bound. Where a rate or an occupied state's probability has left the
- * normal double range (underflow at extreme loads), the bound is infinite: the sign there is unknown.
+ * V at a load with a bound on its error, from observables.ts (V summed so that its error is relative to itself, with
+ * the estimate of that error). A sign is trusted only where |V| exceeds the bound. Where a rate has left the normal
+ * double range or an occupied state is lost entirely (underflow at extreme loads), the bound is infinite: the sign
+ * there is unknown.
  */
-function velocityWithError(loaded: LoadedRates, forcePN: number, live: LiveParts): { v: number; err: number } {
+function loadedVelocity(loaded: LoadedRates, forcePN: number, live: LiveParts): { v: number; err: number } {
 	const table = loaded.at(forcePN);
-	const { p } = steadyState(table);
-	let v = 0;
-	let oneWay = 0;
+	const ss = steadyState(table);
+	const { velocity, velocityError } = velocityWithError(table, ss);
 	let underflow = false;
-	for (let s = 0; s < table.m; s++) {
+	for (let s = 0; s < table.m; s++)
 		if ((live.plus[s] && !(table.kPlus[s] >= TINY)) || (live.minus[s] && !(table.kMinus[s] >= TINY))) underflow = true;
-		const d = table.displacementNm[s];
-		if (d === 0) continue;
-		const up = p[table.from[s]] * table.kPlus[s];
-		const down = p[table.to[s]] * table.kMinus[s];
-		v += (up - down) * d;
-		oneWay += (up + down) * Math.abs(d);
-	}
-	for (let i = 0; i < table.n; i++) if (live.occupied[i] && !(p[i] >= TINY)) underflow = true;
-	return { v, err: underflow ? Infinity : 2 * (table.n + table.m) * Number.EPSILON * oneWay };
+	for (let i = 0; i < table.n; i++) if (live.occupied[i] && ss.logP[i] === -Infinity) underflow = true;
+	return { v: velocity, err: underflow ? Infinity : velocityError };
 }
 
 /**
@@ -112,7 +105,7 @@ function loadedRates(scheme: Scheme): LoadedRates {
 	};
 }
 
-/** Below this a rate or probability may have lost digits to underflow (the smallest normal double is 2.2e-308). */
+/** Below this a rate may have lost digits to underflow (the smallest normal double is 2.2e-308). */
 const TINY = 1e-290;
 
 /** Rates and occupied states of the scheme as given: the parts that must stay in range under any load. */
@@ -123,16 +116,16 @@ interface LiveParts {
 }
 
 function liveParts(table: RateTable): LiveParts {
-	let p: Float64Array;
+	let logP: Float64Array;
 	try {
-		p = steadyState(table).p;
+		logP = steadyState(table).logP;
 	} catch {
-		p = new Float64Array(table.n).fill(1);
+		logP = new Float64Array(table.n);
 	}
 	return {
 		plus: Uint8Array.from(table.kPlus, (k) => (k >= TINY ? 1 : 0)),
 		minus: Uint8Array.from(table.kMinus, (k) => (k >= TINY ? 1 : 0)),
-		occupied: Uint8Array.from(p, (x) => (x >= TINY ? 1 : 0))
+		occupied: Uint8Array.from(logP, (x) => (x > -Infinity ? 1 : 0))
 	};
 }
 
@@ -329,7 +322,7 @@ export function stallSearch(scheme: Scheme, options: Partial<StallOptions> = {})
 		evaluations++;
 		let r: { v: number; err: number } | null;
 		try {
-			r = velocityWithError(loaded, F, live);
+			r = loadedVelocity(loaded, F, live);
 			if (!Number.isFinite(r.v)) r = null;
 		} catch (err) {
 			if (!(err instanceof EngineError)) throw err;
