@@ -321,7 +321,7 @@ export function auditScheme(scheme: Scheme, options: Partial<AuditOptions> = {})
 		reactionDeltaGpNnm: Array.from(chemistry.reactionDeltaGkT, (g) => g * table.kT)
 	});
 	// complete enumeration brackets the stall forces exactly (stall.ts); otherwise the scan covers ±1000 pN
-	const stall = stallSearch(scheme, { cycles: enumeration.complete ? enumeration.cycles : null, maxWork: o.maxStallWork });
+	const stall = stallSearch(scheme, { cycles: enumeration.complete ? enumeration.cycles : null, maxWork: o.maxStallWork, logP: ss.logP });
 	if (stall.message)
 		findings.push({
 			kind: 'stall-force',

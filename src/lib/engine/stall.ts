@@ -34,7 +34,9 @@ export const STALL_DEFAULTS = {
 	/** every simple cycle of the scheme (a complete enumeration); null scans without the exact bracket */
 	cycles: null as Cycle[] | null,
 	/** multiply–adds allowed for the scan (evaluations × states³); past it the search is not run */
-	maxWork: Infinity
+	maxWork: Infinity,
+	/** ln p at the scheme's own conditions when the caller has it (saves a steady state): which states are occupied */
+	logP: null as Float64Array | null
 };
 export type StallOptions = typeof STALL_DEFAULTS;
 
@@ -115,10 +117,10 @@ interface LiveParts {
 	occupied: Uint8Array;
 }
 
-function liveParts(table: RateTable): LiveParts {
+function liveParts(table: RateTable, known: Float64Array | null): LiveParts {
 	let logP: Float64Array;
 	try {
-		logP = steadyState(table).logP;
+		logP = known ?? steadyState(table).logP;
 	} catch {
 		logP = new Float64Array(table.n);
 	}
@@ -313,7 +315,7 @@ export function stallSearch(scheme: Scheme, options: Partial<StallOptions> = {})
 	const table = effectiveRates(scheme);
 	const F0 = scheme.forcePN;
 	let evaluations = 0;
-	const live = liveParts(table);
+	const live = liveParts(table, o.logP);
 	const loaded = loadedRates(scheme);
 	/** V and its error bound, or null where it cannot be evaluated (no unique steady state, rates out of range) */
 	const seen = new Map<number, { v: number; err: number } | null>();
