@@ -84,8 +84,18 @@ pg_start() {
   if ! pg_run "$PGBIN/psql" -h 127.0.0.1 -p "$port" -U postgres -Atqc "select 1 from pg_database where datname='$db'" postgres | grep -q 1; then
     pg_run "$PGBIN/createdb" -h 127.0.0.1 -p "$port" -U postgres "$db" || die "createdb $db failed."
   fi
-  export DATABASE_URL="postgres://postgres@127.0.0.1:$port/$db"
+  db_urls "$port" "$db"
   PG_STARTED_DATA="$data"
+}
+
+APP_DB_ROLE=escapement_app
+
+db_urls() {
+  # db_urls PORT DBNAME : the app connects as a least-privilege role (DATABASE_URL); migrations and pg-boss's schema
+  # run as the owner of the tables (DATABASE_OWNER_URL, the cluster's postgres user). scripts/migrate.ts creates the
+  # role and its grants.
+  export DATABASE_OWNER_URL="postgres://postgres@127.0.0.1:$1/$2"
+  export DATABASE_URL="postgres://$APP_DB_ROLE@127.0.0.1:$1/$2"
 }
 
 pg_stop() {

@@ -68,7 +68,7 @@ say "3/3 browser tests on the built app (chromium)"
 if (cd "$ROOT" && npx svelte-kit sync >/dev/null && npx vite build --logLevel error > "$OUT/build.log" 2>&1); then
   touch "$ROOT/build/.escapement-stamp"
   pg_drop_create "$PGPORT" escapement_e2e >/dev/null
-  export DATABASE_URL="postgres://postgres@127.0.0.1:$PGPORT/escapement_e2e"
+  db_urls "$PGPORT" escapement_e2e
   (cd "$ROOT" && npx tsx scripts/migrate.ts >/dev/null && npx tsx scripts/seed.ts >/dev/null) || { tally 0 1; say "seeding the browser-test database failed"; }
   # The browser tests' own mail sink, storing into their database (lab leads read it on the Caught mail page).
   export SMTP_SINK_PORT=$((SMTP_SINK_PORT + 1))
