@@ -94,7 +94,10 @@ export const actions: Actions = {
 		const conditions = conditionsFromForm(form);
 		if (!conditions.success)
 			return fail(400, { form: 'run' as const, message: `The conditions are not valid: ${conditions.error.issues.map((i) => `${i.path.join('.') || 'conditions'}: ${i.message}`).join('; ')}.` });
-		const revision = Number(form.get('revision')) || undefined;
+		const revisionText = String(form.get('revision') ?? '').trim();
+		// A revision number is a small whole number; 1e308 or 1.5 would reach the database as an impossible integer.
+		if (revisionText && !/^[1-9]\d{0,8}$/.test(revisionText)) return fail(400, { form: 'run' as const, message: `Revision "${revisionText.slice(0, 20)}" is not a revision number (1, 2, 3, …).` });
+		const revision = revisionText ? Number(revisionText) : undefined;
 		let outcome;
 		try {
 			outcome = await requestAudit(access, params.scheme, { revision, conditions: conditions.data });
