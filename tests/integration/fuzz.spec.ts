@@ -229,7 +229,8 @@ describe('every form action', () => {
 		{ name: 'audits/[audit] ?/sign', who: 'reviewer', path: () => `${L()}/audits/${submitted}?/sign`, fields: ['password', 'comment', 'acknowledgeViolation'] },
 		{ name: 'audits/[audit] ?/return', who: 'reviewer', path: () => `${L()}/audits/${submitted}?/return`, fields: ['comment'] },
 		{ name: 'audits/[audit] ?/adopt', who: 'modeller', path: () => `${L()}/audits/${draft}?/adopt`, fields: ['note'] },
-		{ name: 'audits/[audit] ?/verify', who: 'modeller', path: () => `${L()}/audits/${draft}?/verify`, fields: ['note'] }
+		{ name: 'audits/[audit] ?/verify', who: 'modeller', path: () => `${L()}/audits/${draft}?/verify`, fields: ['note'] },
+		{ name: 'jobs/[job] ?/cancel', who: 'modeller', path: () => `${L()}/jobs/00000000-0000-4000-8000-000000000000?/cancel`, fields: ['id'] }
 	];
 	it(`${RUNS} hostile forms spread over the ${targets.length} form actions: no 5xx, no write when refused`, { timeout: TIMEOUT }, async () => {
 		const scheme = hostileScheme.map((x) => JSON.stringify(x));

@@ -68,6 +68,7 @@ const L = (c: Ctx) => `/labs/${c.lab}`;
 const S = (c: Ctx) => `${L(c)}/schemes/${c.scheme}`;
 const AU = (c: Ctx, id = c.audit) => `${L(c)}/audits/${id}`;
 const NO_TOKEN = 'no-such-invitation-token-0000000000';
+const NO_JOB = '00000000-0000-4000-8000-000000000000';
 
 const ROWS: Row[] = [
 	// Public pages
@@ -104,6 +105,9 @@ const ROWS: Row[] = [
 	{ route: '/(app)/labs/[lab]/schemes/[scheme]/revisions', method: 'GET', path: (c) => `${S(c)}/revisions`, expect: members(200) },
 	{ route: '/(app)/labs/[lab]/schemes/[scheme]/revisions/[n]/source', method: 'GET', path: (c) => `${L(c)}/schemes/${c.uploaded}/revisions/1/source`, expect: members(200) },
 	{ route: '/(app)/labs/[lab]/audits/[audit]', method: 'GET', path: (c) => AU(c), expect: members(200) },
+	// A job id that does not exist: members learn only that (404); the cancel action checks the role first.
+	{ route: '/(app)/labs/[lab]/jobs/[job]', method: 'GET', path: (c) => `${L(c)}/jobs/${NO_JOB}`, expect: members(404) },
+	{ route: '/(app)/labs/[lab]/jobs/[job]', method: 'POST', action: 'cancel', path: (c) => `${L(c)}/jobs/${NO_JOB}?/cancel`, expect: anon401(modellers(404)) },
 
 	// Members: invalid bodies, so only the role check decides (lead 400, others refused), nothing changes.
 	{ route: '/(app)/labs/[lab]/members', method: 'POST', action: 'invite', path: (c) => `${L(c)}/members?/invite`, form: () => ({ email: 'not-an-address', role: 'reader' }), expect: anon401(leads(400)) },
