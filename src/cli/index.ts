@@ -54,7 +54,7 @@ export function summary(audit: Audit, name: string): string {
 	else if (audit.correction?.changes.length) {
 		lines.push('', 'Proposed correction (smallest log-space change):');
 		for (const c of audit.correction.changes)
-			lines.push(`  ${c.stepId}.${c.rate}: ${fmt(c.from)} → ${fmt(c.to)} (×${fmt(c.factor, 3)})`);
+			lines.push(`  ${c.stepId}.${c.rate}: ${fmt(c.from)} → ${fmt(c.to)} (×${fmt(c.factor, 4)})`);
 	}
 	return lines.join('\n');
 }

@@ -269,12 +269,18 @@ export function auditScheme(scheme: Scheme, options: Partial<AuditOptions> = {})
 	else if (consistencyComplete)
 		scopeText = `${listingText}. The cycles not listed are decided by a cycle basis of ${basis.length} cycles with ${conditionsText}: their deviations sum to ${bound} log10 units, within the tolerance ${o.toleranceLog10}, and no reversible balanced cycle can deviate by more, so every one is consistent; cycles through a zero rate are irreversible and cycles with unbalanced chemistry unbalanced, listed or not.`;
 	else
-		scopeText = `${listingText}. Consistency is not decided for every cycle: ${judgedCycles} distinct cycles and ${conditionsText} of a ${basis.length}-cycle basis were judged; a cycle that is not listed was not judged and may deviate by up to ${bound} log10 units (the sum of |deviation| over the basis conditions), more than the tolerance ${o.toleranceLog10}.${combinationViolations ? ` ${combinationViolations} balanced combination(s) of basis cycles deviate by more than the tolerance, so unlisted cycles may well be violations.` : ''} Raise maxCycles until every cycle is listed to decide them.`;
+		scopeText = `${listingText}. ${judgedCycles} distinct cycles and ${conditionsText} of a ${basis.length}-cycle basis were judged; a cycle that is not listed was not judged and may deviate by up to ${bound} log10 units (the sum of |deviation| over the basis conditions), more than the tolerance ${o.toleranceLog10}.${combinationViolations ? ` ${combinationViolations} balanced combination(s) of basis cycles deviate by more than the tolerance, so unlisted cycles may well be violations.` : ''} Raise maxCycles until every cycle is listed to decide them.`;
 	if (!enumeration.complete) {
 		findings.push({ kind: 'cycle-cap', path: null, message: `${listingText}.` });
 		cautions.push('cycle fluxes, cycle form of the entropy production and per-cycle verdicts cover only the listed cycles');
 	}
-	if (!consistencyComplete) findings.push({ kind: 'consistency-incomplete', path: null, message: scopeText });
+	// the cycle-cap finding already says why the listing stopped
+	if (!consistencyComplete)
+		findings.push({
+			kind: 'consistency-incomplete',
+			path: null,
+			message: `Consistency is not decided for every cycle: ${scopeText.slice(listingText.length + 2)}`
+		});
 	for (const c of chemistry.contradictions) {
 		const r = scheme.reactions.findIndex((x) => x.id === c.reaction);
 		const combination = Object.entries(c.combination)
