@@ -66,7 +66,12 @@ describe('text that the database cannot hold, or that displays differently', () 
 	});
 	it('logs the refusals in the activity log', async () => {
 		const rows = await db.select().from(schema.activityLog).where(eq(schema.activityLog.actorId, lab.people.modeller.id));
-		expect(rows.filter((r) => r.kind === 'request-refused').length).toBeGreaterThan(0);
+		const refusals = rows.filter((r) => r.kind === 'request-refused');
+		expect(refusals.length).toBeGreaterThan(0);
+		// In the lab's own activity, where its lead reads them, with the reason and without the input.
+		expect(refusals.every((r) => r.labId === lab.lab.id)).toBe(true);
+		expect(refusals.some((r) => (r.details as { reason?: string }).reason === 'hostile-text')).toBe(true);
+		expect(JSON.stringify(refusals)).not.toContain('\u0000');
 	});
 });
 

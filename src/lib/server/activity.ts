@@ -1,5 +1,5 @@
 /** The append-only activity log: who did what, per lab. Rows are never updated or deleted (a trigger enforces it). */
-import { eq } from 'drizzle-orm';
+import { and, eq } from 'drizzle-orm';
 import { RateLimiterMemory } from 'rate-limiter-flexible';
 import { db, schema, type Tx } from './db';
 
@@ -57,7 +57,7 @@ export async function withinLogBudget(reason: string): Promise<boolean> {
  * the input itself. Never throws: a failing log must not turn a clean 4xx into a 500.
  */
 export async function logRefusal(
-	event: { url: URL; request: Request; locals?: Partial<App.Locals>; getClientAddress?: () => string },
+	event: { url: URL; request: Request; locals?: Partial<App.Locals>; params?: Partial<Record<string, string>>; getClientAddress?: () => string },
 	reason: string,
 	summary: string,
 	extra: { labId?: string | null; kind?: ActivityKind; actorId?: string | null } = {}
@@ -69,8 +69,21 @@ export async function logRefusal(
 	} catch {
 		address = null;
 	}
+	// A member's refused request to their lab shows in that lab's activity (the lead reads it there).
+	let labId = extra.labId ?? null;
+	const slug = event.params?.lab;
+	const userId = event.locals?.user?.id;
+	if (!labId && slug && userId) {
+		const [member] = await db
+			.select({ labId: schema.labs.id })
+			.from(schema.labs)
+			.innerJoin(schema.labMembers, and(eq(schema.labMembers.labId, schema.labs.id), eq(schema.labMembers.userId, userId)))
+			.where(eq(schema.labs.slug, slug))
+			.catch(() => []);
+		labId = member?.labId ?? null;
+	}
 	await logActivity({
-		labId: extra.labId ?? null,
+		labId,
 		actorId: extra.actorId ?? event.locals?.user?.id ?? null,
 		kind: extra.kind ?? 'request-refused',
 		summary: summary.slice(0, 300),
