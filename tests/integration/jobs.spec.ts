@@ -3,7 +3,9 @@
  * work budget hands a large audit to a job (202) while a small one is stored at once (201); two workers share the
  * jobs; the job's progress moves and it can be cancelled; a worker killed (SIGKILL) mid-job has its job retried by
  * the other after pg-boss expires it, and the audit is stored exactly once; the same inputs again reuse the result.
- * The schemes are complete graphs K_n (one step per pair of states, [trade] the densest scheme on n states).
+ * The schemes are complete graphs K_n (one step per pair of states, [trade] the densest scheme on n states); the jobs
+ * that are watched or killed mid-way are K30 (435 steps, 20,000 listed cycles), whose stages last long enough to be
+ * seen on an idle machine (a K8 job ended within one poll there).
  */
 import { spawn, type ChildProcess } from 'node:child_process';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -144,7 +146,7 @@ describe('engine jobs', () => {
 	}, 240_000);
 
 	it('reports its progress as it goes, and a cancelled job stops and stores nothing', async () => {
-		const dense = await denseScheme(8, 7, 'K8 to watch');
+		const dense = await denseScheme(30, 7, 'K30 to watch');
 		const id = (await requestAudit(dense)).payload.job.id as string;
 		const seen = await watch(id, finished, 150);
 		const fractions = seen.map((j) => j.progress);
@@ -153,7 +155,7 @@ describe('engine jobs', () => {
 		expect(seen.at(-1)!.progress).toBe(1);
 		expect(new Set(seen.filter((j) => j.status === 'running').map((j) => j.stage)).size).toBeGreaterThan(1);
 
-		const doomed = await denseScheme(8, 9, 'K8 to cancel');
+		const doomed = await denseScheme(30, 9, 'K30 to cancel');
 		const doomedJob = (await requestAudit(doomed)).payload.job.id as string;
 		await watch(doomedJob, (j) => j.status === 'running' && j.stage !== 'starting');
 		const cancel = await api('POST', `/api/v1/labs/${home.lab.slug}/jobs/${doomedJob}/cancel`, { token: modeller });
@@ -168,7 +170,7 @@ describe('engine jobs', () => {
 
 	it('retries the job of a worker killed mid-job on the other worker, and stores the audit exactly once', async () => {
 		while (workers.length < 2) await startWorker();
-		const dense = await denseScheme(8, 11, 'K8 whose worker dies');
+		const dense = await denseScheme(30, 11, 'K30 whose worker dies');
 		const id = (await requestAudit(dense)).payload.job.id as string;
 		const [running] = (await watch(id, (j) => j.status === 'running' && j.stage !== 'starting')).slice(-1);
 		const [row] = await db.select({ workedBy: schema.engineJobs.workedBy }).from(schema.engineJobs).where(eq(schema.engineJobs.id, id));
